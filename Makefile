@@ -1,0 +1,89 @@
+# biaslint: plain Makefile. `make` builds build/biaslint; `make test` runs the cmocka suite and the
+# integration tests; `make sanitize` runs the same suite under ASan+UBSan; `make demo` sets up and runs
+# the demo; `make deps` installs the Debian packages the build, tests and demo need.
+
+CC      ?= gcc
+BUILD   ?= build
+PKGS    := libpcre2-8
+CPPFLAGS += -Iinclude -I$(BUILD)/gen -D_POSIX_C_SOURCE=200809L -D_FILE_OFFSET_BITS=64
+CFLAGS  ?= -O2 -g
+CFLAGS  += -std=c11 -Wall -Wextra -Werror -Wshadow -Wconversion -Wno-sign-conversion
+PCFLAGS := $(shell pkg-config --cflags $(PKGS) 2>/dev/null)
+PLIBS   := $(shell pkg-config --libs $(PKGS) 2>/dev/null || echo -lpcre2-8)
+LDLIBS  += $(PLIBS) -lcsv -lm -lpthread
+CMOCKA_CFLAGS := $(shell pkg-config --cflags cmocka 2>/dev/null)
+CMOCKA_LIBS   := $(shell pkg-config --libs cmocka 2>/dev/null || echo -lcmocka)
+
+VERSION := 0.1.0
+CPPFLAGS += -DBIASLINT_VERSION='"$(VERSION)"'
+
+LIB_SRC  := $(filter-out src/main.c,$(wildcard src/*.c))
+LIB_OBJ  := $(LIB_SRC:src/%.c=$(BUILD)/obj/%.o) $(BUILD)/obj/defaults_rules.o
+TEST_SRC := $(wildcard tests/test_*.c)
+TEST_BIN := $(TEST_SRC:tests/%.c=$(BUILD)/tests/%)
+
+.PHONY: all test unit integration sanitize demo deps clean bench install
+
+all: $(BUILD)/biaslint
+
+$(BUILD)/obj/%.o: src/%.c | $(BUILD)/gen/defaults_rules.h
+	@mkdir -p $(dir $@)
+	$(CC) $(CPPFLAGS) $(PCFLAGS) $(CFLAGS) -MMD -MP -c -o $@ $<
+
+# The default rules file is compiled into the binary, so biaslint works wherever it is copied.
+$(BUILD)/gen/defaults_rules.c: rules/defaults.rules
+	@mkdir -p $(dir $@)
+	{ printf '/* generated from rules/defaults.rules: do not edit */\n#include "defaults_rules.h"\n'; \
+	  printf 'const char rule_defaults_text[] =\n'; \
+	  sed -e 's/\\/\\\\/g' -e 's/"/\\"/g' -e 's/^/"/' -e 's/$$/\\n"/' $<; \
+	  printf ';\n'; } > $@
+$(BUILD)/gen/defaults_rules.h:
+	@mkdir -p $(dir $@)
+	printf '#ifndef DEFAULTS_RULES_H\n#define DEFAULTS_RULES_H\nextern const char rule_defaults_text[];\n#endif\n' > $@
+$(BUILD)/obj/defaults_rules.o: $(BUILD)/gen/defaults_rules.c $(BUILD)/gen/defaults_rules.h
+	@mkdir -p $(dir $@)
+	$(CC) $(CPPFLAGS) $(CFLAGS) -c -o $@ $<
+
+$(BUILD)/libbiaslint.a: $(LIB_OBJ)
+	$(AR) rcs $@ $^
+
+$(BUILD)/biaslint: $(BUILD)/obj/main.o $(BUILD)/libbiaslint.a
+	$(CC) $(CFLAGS) $(LDFLAGS) -o $@ $^ $(LDLIBS)
+
+$(BUILD)/tests/%: tests/%.c $(BUILD)/libbiaslint.a tests/testutil.h
+	@mkdir -p $(dir $@)
+	$(CC) $(CPPFLAGS) $(PCFLAGS) $(CMOCKA_CFLAGS) $(CFLAGS) -Wno-conversion -o $@ $< $(BUILD)/libbiaslint.a $(CMOCKA_LIBS) $(LDLIBS)
+
+unit: $(TEST_BIN)
+	@fail=0; for t in $(TEST_BIN); do \
+	  (cd tests && BIASLINT=../$(BUILD)/biaslint ../$$t) || fail=1; done; \
+	  exit $$fail
+
+integration: $(BUILD)/biaslint
+	BIASLINT=$(BUILD)/biaslint bash tests/integration.sh
+
+test: all unit integration
+
+# The whole suite again, under AddressSanitizer and UndefinedBehaviorSanitizer, in its own build tree.
+sanitize:
+	$(MAKE) BUILD=build/sanitize CFLAGS="-O1 -g -fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=all" \
+	  LDFLAGS="-fsanitize=address,undefined" test
+
+# Installs only what is missing, and says what it does.
+DEBS := gcc make pkg-config libcsv-dev libpcre2-dev libcmocka-dev ngspice
+deps:
+	@missing=""; for p in $(DEBS); do dpkg-query -W -f='$${Status}' $$p 2>/dev/null | grep -q 'ok installed' || missing="$$missing $$p"; done; \
+	if [ -z "$$missing" ]; then echo "deps: all needed Debian packages are installed ($(DEBS))"; exit 0; fi; \
+	echo "deps: installing missing Debian packages:$$missing"; \
+	if [ "$$(id -u)" = 0 ]; then SUDO=; elif command -v sudo >/dev/null; then SUDO=sudo; \
+	else echo "deps: not root and no sudo: install$$missing by hand" >&2; exit 1; fi; \
+	$$SUDO apt-get update && DEBIAN_FRONTEND=noninteractive $$SUDO apt-get install -y --no-install-recommends $$missing
+
+demo: deps
+	$(MAKE) all
+	bash netlists-demo/run-demo.sh $(BUILD)
+
+clean:
+	rm -rf build
+
+-include $(wildcard $(BUILD)/obj/*.d)

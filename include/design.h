@@ -1,0 +1,65 @@
+/* design: what the netlist reader hands to the rest of biaslint: the loaded files, the cards that
+ * annotation needs, the models, and the flat list of MOSFETs with hierarchical names. */
+#ifndef DESIGN_H
+#define DESIGN_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+#include "arena.h"
+#include "diag.h"
+#include "source.h"
+#include "strtab.h"
+
+typedef enum { MOS_UNKNOWN = 0, MOS_NMOS, MOS_PMOS } MosType;
+
+/* One logical line of a netlist file that annotation must know about: a MOSFET card, or in the top
+ * file the `.include`/`.lib` line through which a file with MOSFET cards was loaded. */
+typedef struct {
+    uint32_t file;     /* index into Design.files; 0 is the top netlist */
+    uint32_t line;     /* line number of its first physical line */
+    uint32_t col;      /* column of its first character (1) */
+    size_t start;      /* byte offset of the first physical line */
+    size_t end;        /* byte offset just past the last physical line's line ending (or EOF) */
+    size_t anchor_end; /* offset in the top file after which this card's annotation goes: `end` for
+                          cards in file 0, else the end of the top-level line that included it */
+} Card;
+
+/* A `.model` card: the fields biaslint uses. */
+typedef struct {
+    const char *name;  /* interned, lower case, including any bin suffix ("nch.1") */
+    MosType type;
+    int level;         /* 1 when not given, as in SPICE */
+    double cgso, cgdo, cgbo; /* overlap capacitances per metre (F/m), NaN when not on the card */
+    uint32_t card_file, card_line;
+} Model;
+
+/* One MOSFET instance after flattening. */
+typedef struct {
+    const char *name;    /* canonical hierarchical name, interned, lower case: "x1.xamp.m3" */
+    const char *model;   /* model name as written on the card, interned ("nch"); bins resolved to base */
+    const Model *mdl;    /* the resolved .model card, NULL when absent (type then MOS_UNKNOWN) */
+    MosType type;
+    double w, l;         /* metres, as written on the card after evaluation (W is total over fingers) */
+    double m;            /* multiplier: the card's m times every enclosing X card's m */
+    double nf;           /* fingers, 1 when not given */
+    const char *nets[4]; /* d, g, s, b: hierarchical node names, interned ("x1.tail", "vdd", "0") */
+    const char *cell;    /* subcircuit the card stands in, interned; NULL at top level */
+    uint32_t card;       /* index into Design.cards */
+} Device;
+
+typedef struct {
+    SrcSet files;        /* every file read: the netlist, includes, libraries */
+    Arena arena;         /* names, models, devices, cards */
+    StrTab *names;
+    Card *cards;
+    size_t ncards;
+    Model *models;
+    size_t nmodels;
+    Device *devs;
+    size_t ndevs;
+    double temp_c;       /* .temp or .option temp, 27 when not given */
+    const char *title;   /* the title line, arena copy */
+} Design;
+
+#endif

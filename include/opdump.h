@@ -1,0 +1,105 @@
+/* opdump: operating-point records read from a simulator dump. One interface, one reader per
+ * format (op_show.c: ngspice `show` tables in batch output; op_raw.c: ngspice raw files, binary and
+ * ASCII; op_csv.c: a CSV device table). Values are kept as the simulator printed them; join
+ * normalizes signs once the device type is known from the netlist (see DEVELOPERS.md). */
+#ifndef OPDUMP_H
+#define OPDUMP_H
+
+#include <stdbool.h>
+#include <stddef.h>
+#include <stdint.h>
+
+#include "arena.h"
+#include "diag.h"
+#include "source.h"
+#include "strtab.h"
+
+/* Quantities a record may hold, named as ngspice names the instance parameters. ORDER OPQ */
+typedef enum {
+    OPQ_ID, OPQ_GM, OPQ_GDS, OPQ_GMBS,
+    OPQ_VGS, OPQ_VDS, OPQ_VBS,
+    OPQ_VTH, OPQ_VON, OPQ_VDSAT,
+    OPQ_CGG, OPQ_CGS, OPQ_CGD, OPQ_CGB,
+    OPQ_W, OPQ_L, OPQ_M, OPQ_NF,
+    OPQ_COUNT
+} OpQty;
+
+extern const char *const op_qty_name[OPQ_COUNT]; /* "id", "gm", ... ORDER OPQ */
+
+/* Which model family printed the record, when the dump says (show block headers); it decides how
+ * signs and Cgg are read (ngspice-op-data.md, section 4). */
+typedef enum { OPFAM_UNKNOWN = 0, OPFAM_BSIM, OPFAM_MOS1 } OpFamily;
+
+typedef struct {
+    const char *name;     /* canonical: ngspice's "m.x1.m3" / "@m.x1.m3[..]" becomes "x1.m3"; interned */
+    bool truncated;       /* the dump cut the name (ngspice `show` keeps 21 characters): match by prefix */
+    OpFamily family;
+    const char *model;    /* model name when the dump gives it, interned; NULL otherwise */
+    double q[OPQ_COUNT];  /* NaN where absent: an absent value is never 0 */
+    SrcLoc loc;           /* where the record starts in the dump (file borrowed from the OpTable) */
+    uint32_t extra;       /* index of this record's first value in OpTable.extra_vals */
+} OpRecord;
+
+typedef enum { OPFMT_AUTO = 0, OPFMT_SHOW, OPFMT_RAW, OPFMT_CSV } OpFormat;
+
+typedef struct {
+    SrcFile file;           /* the dump, read whole */
+    OpFormat format;        /* the format actually read */
+    Arena arena;
+    StrTab *names;
+    OpRecord *recs;         /* malloc'd array */
+    size_t n, cap;
+    StrMap index;           /* canonical name -> record index */
+    /* Node voltages (raw files; show output where a node table is printed). Names canonical
+       ("x1.tail", "out"), interned. */
+    const char **node_name;
+    double *node_v;
+    size_t nnodes, nodes_cap;
+    /* Extra CSV columns kept for reports: nextra names, n*nextra values (NaN where empty). */
+    const char **extra_name;
+    size_t nextra;
+    double *extra_vals;
+    size_t extra_cap;
+    double temp_c;          /* simulation temperature when the dump says, else NaN */
+} OpTable;
+
+/* One reader per format. sniff returns a confidence 0..100 that buf holds this format;
+ * parse fills t from t->file (records, nodes) and returns ERR_OK or a negative status with
+ * located diagnostics. */
+typedef struct {
+    const char *name; /* "show", "raw", "csv" */
+    int (*sniff)(const char *buf, size_t len);
+    int (*parse)(OpTable *t, DiagList *d);
+} OpReader;
+
+extern const OpReader op_show_reader, op_raw_reader, op_csv_reader;
+
+/* Read a dump, detecting its format unless fmt says. *out is the table (free with op_free), NULL on
+ * error; nothing is left allocated on failure. Errors: ERR_IO, ERR_INPUT, ERR_NOMEM. */
+int op_read(const char *path, OpFormat fmt, OpTable **out, DiagList *d) MUST_CHECK;
+void op_free(OpTable *t);
+
+/* ---- helpers shared by the readers (opdump.c) ---- */
+
+/* A new record for canonical name[0..n) at loc, all quantities NaN, or the existing one when the
+ * name is there already and merge is true (show output may list a device in several tables).
+ * NULL with a diagnostic for a duplicate when merge is false, or out of memory. */
+OpRecord *op_add(OpTable *t, const char *name, size_t n, SrcLoc loc, bool merge, DiagList *d);
+
+/* Set quantity q of r to v; a different value already there is a conflict: an error at loc. */
+int op_set(OpRecord *r, OpQty q, double v, SrcLoc loc, DiagList *d) MUST_CHECK;
+
+/* Add a node voltage. */
+int op_add_node(OpTable *t, const char *name, size_t n, double v) MUST_CHECK;
+
+/* The quantity named s[0..n) (case-insensitive, ngspice names and the documented aliases), or -1. */
+int op_qty_lookup(const char *s, size_t n);
+
+/* ngspice's instance spelling to biaslint's canonical name: "m.x1.m3" -> "x1.m3", "mn1" -> "mn1";
+ * returns the start and length within s. */
+void op_canonical(const char *s, size_t n, const char **cs, size_t *cn);
+
+/* The record for a canonical name, or NULL. */
+const OpRecord *op_find(const OpTable *t, const char *name);
+
+#endif

@@ -1,0 +1,45 @@
+/* strtab: interned, case-folded names (equal names are equal pointers), and a map from interned
+ * names to indices for hash joins. */
+#ifndef STRTAB_H
+#define STRTAB_H
+
+#include <stddef.h>
+#include <stdint.h>
+
+#include "arena.h"
+#include "diag.h"
+
+typedef struct StrTab StrTab;
+
+/* A table whose strings live in arena a (borrowed; it must outlive the table's strings). NULL on OOM. */
+StrTab *str_new(Arena *a);
+void str_free(StrTab *t); /* frees the hash index; the strings stay in the arena. Accepts NULL. */
+
+/* The interned, lower-cased copy of s[0..n), NUL-terminated; NULL when memory ran out. */
+const char *str_intern(StrTab *t, const char *s, size_t n);
+
+/* The interned copy if s[0..n) (case-folded) was interned before, else NULL. Allocates nothing. */
+const char *str_lookup(const StrTab *t, const char *s, size_t n);
+
+size_t str_count(const StrTab *t);
+
+/* FNV-1a over the lower-cased bytes: the hash every name table in biaslint uses. */
+uint64_t str_hash(const char *s, size_t n);
+
+/* StrMap: interned name -> uint32 value, open addressing, keyed by pointer. */
+typedef struct {
+    const char **keys;
+    uint32_t *vals;
+    size_t cap;  /* power of two, 0 when empty */
+    size_t n;
+} StrMap;
+
+#define STRMAP_INIT {NULL, NULL, 0, 0}
+
+/* Insert or replace. ERR_OK or ERR_NOMEM (map unchanged). */
+int strmap_put(StrMap *m, const char *key, uint32_t val) MUST_CHECK;
+/* 1 and *val set when key is present, else 0. */
+int strmap_get(const StrMap *m, const char *key, uint32_t *val);
+void strmap_free(StrMap *m);
+
+#endif

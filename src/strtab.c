@@ -1,0 +1,202 @@
+/* strtab: an open-addressing set of case-folded strings stored in an arena. */
+#include "strtab.h"
+
+#include <ctype.h>
+#include <stdlib.h>
+#include <string.h>
+
+struct StrTab {
+    Arena *arena;
+    const char **slots;  /* power-of-two table of interned strings */
+    uint32_t *hashes;    /* low 32 bits of each slot's hash, to skip most strcmp calls */
+    size_t cap, n;
+};
+
+static inline unsigned char fold(unsigned char c)
+{
+    return (unsigned char)(c >= 'A' && c <= 'Z' ? c + ('a' - 'A') : c);
+}
+
+uint64_t str_hash(const char *s, size_t n)
+{
+    uint64_t h = 1469598103934665603ull;
+    for (size_t i = 0; i < n; i++) {
+        h ^= fold((unsigned char)s[i]);
+        h *= 1099511628211ull;
+    }
+    return h;
+}
+
+StrTab *str_new(Arena *a)
+{
+    StrTab *t = calloc(1, sizeof *t);
+    if (!t)
+        return NULL;
+    t->arena = a;
+    return t;
+}
+
+void str_free(StrTab *t)
+{
+    if (!t)
+        return;
+    free(t->slots);
+    free(t->hashes);
+    free(t);
+}
+
+size_t str_count(const StrTab *t)
+{
+    return t->n;
+}
+
+static int same(const char *interned, const char *s, size_t n)
+{
+    for (size_t i = 0; i < n; i++)
+        if ((unsigned char)interned[i] != fold((unsigned char)s[i]))
+            return 0;
+    return interned[n] == '\0';
+}
+
+static size_t probe(const StrTab *t, const char *s, size_t n, uint64_t h)
+{
+    size_t mask = t->cap - 1, i = (size_t)h & mask;
+    uint32_t h32 = (uint32_t)h;
+    while (t->slots[i] && !(t->hashes[i] == h32 && same(t->slots[i], s, n)))
+        i = (i + 1) & mask;
+    return i;
+}
+
+static int grow(StrTab *t)
+{
+    size_t ncap = t->cap ? t->cap * 2 : 256;
+    const char **slots = calloc(ncap, sizeof *slots);
+    uint32_t *hashes = calloc(ncap, sizeof *hashes);
+    if (!slots || !hashes) {
+        free(slots);
+        free(hashes);
+        return ERR_NOMEM;
+    }
+    for (size_t i = 0; i < t->cap; i++) {
+        if (!t->slots[i])
+            continue;
+        size_t j = t->hashes[i] & (ncap - 1);
+        /* rehash from the stored low bits: ncap <= 2^32 slots is far beyond any netlist */
+        while (slots[j])
+            j = (j + 1) & (ncap - 1);
+        slots[j] = t->slots[i];
+        hashes[j] = t->hashes[i];
+    }
+    free(t->slots);
+    free(t->hashes);
+    t->slots = slots;
+    t->hashes = hashes;
+    t->cap = ncap;
+    return ERR_OK;
+}
+
+const char *str_lookup(const StrTab *t, const char *s, size_t n)
+{
+    if (!t->cap)
+        return NULL;
+    return t->slots[probe(t, s, n, str_hash(s, n))];
+}
+
+const char *str_intern(StrTab *t, const char *s, size_t n)
+{
+    if ((t->n + 1) * 4 > t->cap * 3 && grow(t) != ERR_OK)
+        return NULL;
+    uint64_t h = str_hash(s, n);
+    size_t i = probe(t, s, n, h);
+    if (t->slots[i])
+        return t->slots[i];
+    char *p = arena_alloc(t->arena, n + 1);
+    if (!p)
+        return NULL;
+    for (size_t k = 0; k < n; k++)
+        p[k] = (char)fold((unsigned char)s[k]);
+    p[n] = '\0';
+    t->slots[i] = p;
+    t->hashes[i] = (uint32_t)h;
+    t->n++;
+    return p;
+}
+
+/* StrMap: keys are interned pointers, so hashing the address is enough. */
+static inline size_t ptr_hash(const char *p)
+{
+    uint64_t x = (uint64_t)(uintptr_t)p;
+    x ^= x >> 33;
+    x *= 0xff51afd7ed558ccdull;
+    x ^= x >> 33;
+    return (size_t)x;
+}
+
+static int map_grow(StrMap *m)
+{
+    size_t ncap = m->cap ? m->cap * 2 : 64;
+    const char **keys = calloc(ncap, sizeof *keys);
+    uint32_t *vals = malloc(ncap * sizeof *vals);
+    if (!keys || !vals) {
+        free(keys);
+        free(vals);
+        return ERR_NOMEM;
+    }
+    for (size_t i = 0; i < m->cap; i++) {
+        if (!m->keys[i])
+            continue;
+        size_t j = ptr_hash(m->keys[i]) & (ncap - 1);
+        while (keys[j])
+            j = (j + 1) & (ncap - 1);
+        keys[j] = m->keys[i];
+        vals[j] = m->vals[i];
+    }
+    free(m->keys);
+    free(m->vals);
+    m->keys = keys;
+    m->vals = vals;
+    m->cap = ncap;
+    return ERR_OK;
+}
+
+int strmap_put(StrMap *m, const char *key, uint32_t val)
+{
+    if ((m->n + 1) * 4 > m->cap * 3 && map_grow(m) != ERR_OK)
+        return ERR_NOMEM;
+    size_t mask = m->cap - 1, i = ptr_hash(key) & mask;
+    while (m->keys[i] && m->keys[i] != key)
+        i = (i + 1) & mask;
+    if (!m->keys[i]) {
+        m->keys[i] = key;
+        m->n++;
+    }
+    m->vals[i] = val;
+    return ERR_OK;
+}
+
+int strmap_get(const StrMap *m, const char *key, uint32_t *val)
+{
+    if (!m->cap || !key)
+        return 0;
+    size_t mask = m->cap - 1, i = ptr_hash(key) & mask;
+    while (m->keys[i]) {
+        if (m->keys[i] == key) {
+            if (val)
+                *val = m->vals[i];
+            return 1;
+        }
+        i = (i + 1) & mask;
+    }
+    return 0;
+}
+
+void strmap_free(StrMap *m)
+{
+    if (!m)
+        return;
+    free(m->keys);
+    free(m->vals);
+    m->keys = NULL;
+    m->vals = NULL;
+    m->cap = m->n = 0;
+}
