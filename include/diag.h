@@ -67,7 +67,8 @@ int diag_add_excerpt(DiagList *d, DiagSeverity sev, SrcLoc loc, const char *line
 /* Out-of-memory, recorded without allocating. Always returns ERR_NOMEM. */
 int diag_nomem(DiagList *d);
 
-/* Print every diagnostic as `file:line:col: severity: message`, with the excerpt and a caret line. */
-void diag_print(const DiagList *d, FILE *fp, int color);
+/* Print every diagnostic at or above min as `file:line:col: severity: message`, with the excerpt
+ * and a caret line under the span. */
+void diag_print(const DiagList *d, FILE *fp, int color, DiagSeverity min);
 
 #endif

@@ -20,7 +20,7 @@ typedef struct {
     Row *rows;                  /* one per Design device, in netlist order; malloc'd */
     size_t n;
     const OpRecord **orphans;   /* records that matched no device; malloc'd */
-    size_t norphans;
+    size_t norphans, orphans_cap;
     size_t nmatched;
     int overlap;                /* overlap capacitance was added to Cgg where the model gives it */
 } Joined;

@@ -138,10 +138,12 @@ static const char *sev_word(DiagSeverity s)
     return s == DIAG_ERROR ? "error" : s == DIAG_WARNING ? "warning" : "note";
 }
 
-void diag_print(const DiagList *d, FILE *fp, int color)
+void diag_print(const DiagList *d, FILE *fp, int color, DiagSeverity min)
 {
     for (size_t i = 0; i < d->n; i++) {
         const Diag *g = &d->items[i];
+        if (g->sev < min)
+            continue;
         const char *on = "", *off = "";
         if (color) {
             on = g->sev == DIAG_ERROR ? "\033[1;31m" : g->sev == DIAG_WARNING ? "\033[1;35m" : "\033[1;36m";

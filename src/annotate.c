@@ -1,0 +1,281 @@
+/* annotate: one pass over the top file, copying every byte that is not an annotation line and
+ * inserting the new lines at each card's anchor. Cards and findings are grouped by counting sorts,
+ * so the pass is linear in the file plus the devices. */
+#include "annotate.h"
+
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "metrics.h"
+#include "report.h"
+
+#define ANN_MAX_FINDING_LINES 6 /* per summary: the worst findings, then a count */
+
+static int is_mark(const char *text, size_t len, size_t off)
+{
+    return off + 1 < len && text[off] == ANN_MARK[0] && text[off + 1] == ANN_MARK[1];
+}
+
+static size_t line_end(const char *text, size_t len, size_t off)
+{
+    const char *nl = memchr(text + off, '\n', len - off);
+    return nl ? (size_t)(nl - text) + 1 : len;
+}
+
+/* Length of the text once a final block of annotation lines without a line ending (written after a
+ * last line that had none) is taken off, together with the line ending annotate put before it. */
+static size_t effective_len(const char *text, size_t len)
+{
+    if (len == 0 || text[len - 1] == '\n')
+        return len;
+    size_t s = len;
+    while (s > 0 && text[s - 1] != '\n')
+        s--;
+    if (!is_mark(text, len, s))
+        return len;
+    /* walk back over whole annotation lines */
+    while (s > 0) {
+        size_t p = s - 1; /* the '\n' ending the previous line */
+        size_t b = p;
+        while (b > 0 && text[b - 1] != '\n')
+            b--;
+        if (!is_mark(text, len, b))
+            break;
+        s = b;
+    }
+    if (s == 0)
+        return 0;
+    size_t e = s - 1;
+    if (e > 0 && text[e - 1] == '\r')
+        e--;
+    return e;
+}
+
+int ann_strip(const char *text, size_t len, Buf *out)
+{
+    size_t eff = effective_len(text, len);
+    for (size_t off = 0; off < eff;) {
+        size_t e = line_end(text, eff, off);
+        if (!is_mark(text, eff, off) && buf_append(out, text + off, e - off) != ERR_OK)
+            return ERR_NOMEM;
+        off = e;
+    }
+    return ERR_OK;
+}
+
+/* ---- the annotation lines ---- */
+
+typedef struct {
+    const Design *ds;
+    const Joined *j;
+    const Findings *f;
+    size_t *row_start, *row_list;     /* rows grouped by card */
+    size_t *find_start, *find_list;   /* findings grouped by row */
+    const char *eol;
+    Buf *out;
+} Ctx;
+
+static int put_eng(Buf *b, const char *label, double v, const char *unit)
+{
+    char tmp[32];
+    return buf_printf(b, " | %s %s", label, rep_eng(v, unit, tmp, sizeof tmp));
+}
+
+static int device_line(Ctx *c, const Row *r)
+{
+    const Figures *g = &r->fig;
+    Buf *b = c->out;
+    int rc = buf_printf(b, "%s [%s] ", ANN_MARK, r->dev->name);
+    if (!r->op)
+        return rc | buf_printf(b, "no operating-point data%s", c->eol);
+    rc |= buf_puts(b, fig_region_name[g->region]);
+    if (g->swapped)
+        rc |= buf_puts(b, " (drain/source swapped)");
+    char tmp[32];
+    rc |= buf_printf(b, " | gm/ID %s", isnan(g->gm_id) ? "-" : (snprintf(tmp, sizeof tmp, "%.3g/V", g->gm_id), tmp));
+    rc |= buf_printf(b, " | gain %s", isnan(g->gain) ? "-" : (snprintf(tmp, sizeof tmp, "%.3g", g->gain), tmp));
+    rc |= put_eng(b, "margin", g->margin, "V");
+    rc |= put_eng(b, "ID", g->id, "A");
+    rc |= put_eng(b, "fT", g->ft, "Hz");
+    return rc | buf_puts(b, c->eol);
+}
+
+static int finding_line(Ctx *c, const Finding *fd)
+{
+    const Row *r = &c->j->rows[fd->row];
+    return buf_printf(c->out, "%s [%s] %s %s: %s%s", ANN_MARK, r->dev->name, rule_severity_name[fd->sev],
+                      rule_check_name[fd->check], fd->message, c->eol);
+}
+
+static int row_findings(Ctx *c, size_t row)
+{
+    int rc = ERR_OK;
+    for (size_t k = c->find_start[row]; k < c->find_start[row + 1]; k++)
+        rc |= finding_line(c, &c->f->items[c->find_list[k]]);
+    return rc;
+}
+
+/* One line for many instances of a card: region counts, gm/ID range, worst margin, then the worst
+ * findings (they are sorted by severity already, so the first ones are the worst). */
+static int summary_lines(Ctx *c, const size_t *rows, size_t n)
+{
+    size_t region_n[REGION_COUNT] = {0}, worst = SIZE_MAX, nfind = 0;
+    double lo = NAN, hi = NAN;
+    for (size_t k = 0; k < n; k++) {
+        const Row *r = &c->j->rows[rows[k]];
+        region_n[r->op ? r->fig.region : REGION_UNKNOWN]++;
+        if (!isnan(r->fig.gm_id)) {
+            lo = isnan(lo) || r->fig.gm_id < lo ? r->fig.gm_id : lo;
+            hi = isnan(hi) || r->fig.gm_id > hi ? r->fig.gm_id : hi;
+        }
+        if (!isnan(r->fig.margin) && (worst == SIZE_MAX || r->fig.margin < c->j->rows[worst].fig.margin))
+            worst = rows[k];
+        nfind += c->find_start[rows[k] + 1] - c->find_start[rows[k]];
+    }
+    const char *card_name = c->j->rows[rows[0]].dev->name;
+    const char *leaf = strrchr(card_name, '.');
+    Buf *b = c->out;
+    int rc = buf_printf(b, "%s [%zu instances of %s]", ANN_MARK, n, leaf ? leaf + 1 : card_name);
+    const char *sep = " ";
+    for (int g = 0; g < REGION_COUNT; g++) {
+        if (!region_n[g])
+            continue;
+        rc |= buf_printf(b, "%s%zu %s", sep, region_n[g], g == REGION_UNKNOWN ? "without data" : fig_region_name[g]);
+        sep = ", ";
+    }
+    if (!isnan(lo))
+        rc |= buf_printf(b, " | gm/ID %.3g..%.3g/V", lo, hi);
+    if (worst != SIZE_MAX) {
+        char tmp[32];
+        rc |= buf_printf(b, " | worst margin %s (%s)", rep_eng(c->j->rows[worst].fig.margin, "V", tmp, sizeof tmp),
+                         c->j->rows[worst].dev->name);
+    }
+    rc |= buf_puts(b, c->eol);
+    /* the worst findings of all instances: collect their indices, lowest (= most severe) first */
+    size_t shown = 0;
+    for (int sev = SEV_ERROR; sev >= SEV_INFO && shown < ANN_MAX_FINDING_LINES; sev--)
+        for (size_t k = 0; k < n && shown < ANN_MAX_FINDING_LINES; k++)
+            for (size_t q = c->find_start[rows[k]]; q < c->find_start[rows[k] + 1] && shown < ANN_MAX_FINDING_LINES; q++) {
+                const Finding *fd = &c->f->items[c->find_list[q]];
+                if ((int)fd->sev == sev) {
+                    rc |= finding_line(c, fd);
+                    shown++;
+                }
+            }
+    if (nfind > shown)
+        rc |= buf_printf(b, "%s %zu more findings for these instances are in the report%s", ANN_MARK, nfind - shown,
+                         c->eol);
+    return rc;
+}
+
+static int card_lines(Ctx *c, size_t card)
+{
+    const size_t *rows = c->row_list + c->row_start[card];
+    size_t n = c->row_start[card + 1] - c->row_start[card];
+    if (n > ANN_MAX_INSTANCES)
+        return summary_lines(c, rows, n);
+    int rc = ERR_OK;
+    for (size_t k = 0; k < n; k++) {
+        rc |= device_line(c, &c->j->rows[rows[k]]);
+        rc |= row_findings(c, rows[k]);
+    }
+    return rc;
+}
+
+/* Counting sort of n items into nkeys groups: start[] has nkeys+1 entries, list[] the items. */
+static int group(size_t nkeys, size_t n, size_t (*key)(const void *, size_t), const void *ctx, size_t **start,
+                 size_t **list)
+{
+    *start = calloc(nkeys + 1, sizeof **start);
+    *list = malloc((n ? n : 1) * sizeof **list);
+    if (!*start || !*list)
+        return ERR_NOMEM;
+    for (size_t i = 0; i < n; i++)
+        (*start)[key(ctx, i) + 1]++;
+    for (size_t k = 0; k < nkeys; k++)
+        (*start)[k + 1] += (*start)[k];
+    size_t *fill = malloc((nkeys ? nkeys : 1) * sizeof *fill);
+    if (!fill)
+        return ERR_NOMEM;
+    memcpy(fill, *start, nkeys * sizeof *fill);
+    for (size_t i = 0; i < n; i++)
+        (*list)[fill[key(ctx, i)]++] = i;
+    free(fill);
+    return ERR_OK;
+}
+
+static size_t row_card(const void *ctx, size_t i)
+{
+    return ((const Joined *)ctx)->rows[i].dev->card;
+}
+
+static size_t finding_row(const void *ctx, size_t i)
+{
+    return ((const Findings *)ctx)->items[i].row;
+}
+
+typedef struct {
+    size_t anchor, card;
+} Slot;
+
+static int by_anchor(const void *a, const void *b)
+{
+    const Slot *x = a, *y = b;
+    if (x->anchor != y->anchor)
+        return x->anchor < y->anchor ? -1 : 1;
+    return x->card < y->card ? -1 : x->card > y->card;
+}
+
+int ann_render(const Design *ds, const Joined *j, const Findings *f, Buf *out)
+{
+    const SrcFile *top = ds->files.files[0];
+    Ctx c = {ds, j, f, NULL, NULL, NULL, NULL, "\n", out};
+    Slot *slots = malloc((ds->ncards ? ds->ncards : 1) * sizeof *slots);
+    int rc = ERR_NOMEM;
+    if (!slots || group(ds->ncards, j->n, row_card, j, &c.row_start, &c.row_list) != ERR_OK ||
+        group(j->n, f->n, finding_row, f, &c.find_start, &c.find_list) != ERR_OK)
+        goto done;
+    size_t nslots = 0;
+    for (size_t k = 0; k < ds->ncards; k++)
+        if (c.row_start[k + 1] > c.row_start[k])
+            slots[nslots++] = (Slot){ds->cards[k].anchor_end, k};
+    qsort(slots, nslots, sizeof *slots, by_anchor);
+
+    const char *text = top->text;
+    size_t eff = effective_len(text, top->len), off = 0, s = 0;
+    rc = ERR_OK;
+    while (rc == ERR_OK && (off < eff || s < nslots)) {
+        size_t at = s < nslots ? (slots[s].anchor > eff ? eff : slots[s].anchor) : eff;
+        /* copy the original lines up to the anchor, leaving out old annotation lines */
+        while (off < at) {
+            size_t e = line_end(text, eff, off);
+            if (!is_mark(text, eff, off))
+                rc |= buf_append(out, text + off, e - off);
+            off = e;
+        }
+        if (s >= nslots)
+            break;
+        /* the new lines for every card anchored here, in the line ending of the line above */
+        c.eol = at >= 2 && text[at - 1] == '\n' && text[at - 2] == '\r' ? "\r\n" : "\n";
+        int no_eol = at == eff && (at == 0 || text[at - 1] != '\n');
+        size_t mark = out->len;
+        for (; s < nslots && (slots[s].anchor > eff ? eff : slots[s].anchor) == at; s++)
+            rc |= card_lines(&c, slots[s].card);
+        if (no_eol && rc == ERR_OK) {
+            /* the last line had no line ending: put one before the block and none after it */
+            size_t el = strlen(c.eol);
+            memmove(out->data + mark + el, out->data + mark, out->len - mark - el);
+            memcpy(out->data + mark, c.eol, el);
+        }
+    }
+    if (rc != ERR_OK)
+        rc = ERR_NOMEM;
+done:
+    free(slots);
+    free(c.row_start);
+    free(c.row_list);
+    free(c.find_start);
+    free(c.find_list);
+    return rc;
+}
