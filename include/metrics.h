@@ -45,16 +45,22 @@ typedef struct {
 } Figures;
 
 /* Read r into f in the n-type convention for a device of the given type (ngspice-op-data.md sec. 4):
- * |id|; vth from vth, or type*von; |vdsat|; cgg from cgg or |cgs+cgd+cgb|; vsb = -vbs; a record with
- * vds < 0 is swapped back (vgs-vds, -vds, vbs-vds). All derived figures are left NaN. */
+ * |id|; vth from vth, else von; BSIM vth/vdsat as printed, Mos1 ones times the type sign, unknown
+ * family |vdsat| and a negative PMOS vth negated; cgg from cgg or |cgs+cgd+cgb| (all three needed);
+ * vsb = -vbs; a record with vds < 0 is swapped back (vgs-vds, -vds, vbs-vds). All derived figures
+ * are left NaN. r NULL (no data for the device): every figure NaN, region unknown. */
 void fig_normalize(const OpRecord *r, MosType type, Figures *f);
 
 /* Fill the derived figures and the region of f for device dv (for W, L, m); bands gives the
- * boundaries. Never divides by zero: a zero or absent denominator leaves the figure NaN. */
+ * boundaries. Never divides by zero: a zero or absent denominator leaves the figure NaN. Region: off
+ * when ID is 0 or ID*L/(W*m) < off_below; else triode when VDS-VDSAT < 0; else weak/moderate/strong
+ * from gm/ID; unknown when ID, VDS-VDSAT or a positive gm/ID is missing (or bands is NULL). */
 void fig_derive(Figures *f, const Device *dv, const Bands *bands);
 
 /* Add the model's overlap capacitance (cgso+cgdo)*W*m + cgbo*L*m to f->cgg when both are known, and
- * recompute fT. Returns true when it added something. */
+ * recompute fT. Returns true when it added something. Needs cgso and cgdo on the card (cgbo is
+ * added when given); never for Meyer-capacitance models (levels 1-3, 6), whose cgs/cgd hold the
+ * overlap already, and never twice. */
 bool fig_add_overlap(Figures *f, const Device *dv);
 
 /* Thermal voltage kT/q in volts at temp_c degrees Celsius (exact SI k and q). */
