@@ -144,7 +144,9 @@ static int summary_lines(Ctx *c, const size_t *rows, size_t n)
         rc |= buf_printf(b, "%s%zu %s", sep, region_n[g], g == REGION_UNKNOWN ? "without data" : fig_region_name[g]);
         sep = ", ";
     }
-    if (!isnan(lo))
+    if (!isnan(lo) && lo == hi)
+        rc |= buf_printf(b, " | gm/ID %.3g/V", lo);
+    else if (!isnan(lo))
         rc |= buf_printf(b, " | gm/ID %.3g..%.3g/V", lo, hi);
     if (worst != SIZE_MAX) {
         char tmp[32];

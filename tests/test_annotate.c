@@ -142,13 +142,15 @@ static void test_many_instances_summarised(void **state)
     static const char text[] = "title\n.subckt c a\nm3 a a 0 0 nch\n.ends\n.end\n";
     Fixture x;
     setup(&x, text, (size_t[]){0, 0, 0, 0, 0, 0}, 6);
+    static const char *inst[] = {"x1.m3", "x2.m3", "x3.m3", "x4.m3", "x5.m3", "x6.m3"};
     for (size_t k = 0; k < 6; k++)
-        x.rows[k].dev = &x.devs[k];
+        x.devs[k].name = inst[k];
+    x.rows[2].fig.gm_id = 17.5;
     x.rows[5].fig.region = REGION_TRIODE;
     add_finding(&x, 5, SEV_ERROR, "in triode");
     char *out = render(&x);
     assert_non_null(strstr(out, "*~ [6 instances of m3] 5 moderate, 1 triode"));
-    assert_non_null(strstr(out, "worst margin"));
+    assert_non_null(strstr(out, "| gm/ID 15..17.5/V | worst margin -50mV (x6.m3)"));
     assert_non_null(strstr(out, "*~ [x6.m3] error sat-margin: in triode"));
     assert_null(strstr(out, "*~ [x1.m3] moderate")); /* no per-instance lines past the limit */
     assert_strips_to(out, text);

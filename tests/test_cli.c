@@ -3,7 +3,7 @@
 
 #include "cli.h"
 
-static int parse(Options *o, Buf *msg, int argc, const char **argv)
+static int parse(Options *o, Buf *msg, int argc, const char *const *argv)
 {
     buf_clear(msg);
     return cli_parse(argc, (char **)argv, o, msg);

@@ -13,7 +13,7 @@ static int exists(const char *p)
 
 static int tmp_left(const char *dir)
 {
-    char cmd[256];
+    char cmd[640];
     snprintf(cmd, sizeof cmd, "ls '%s' | grep -q '\\.tmp'", dir);
     return system(cmd) == 0;
 }
