@@ -83,20 +83,39 @@ void op_free(OpTable *t);
 
 /* A new record for canonical name[0..n) at loc, all quantities NaN, or the existing one when the
  * name is there already and merge is true (show output may list a device in several tables).
- * NULL with a diagnostic for a duplicate when merge is false, or out of memory. */
+ * NULL with a diagnostic for a duplicate when merge is false, or out of memory (d->oom set).
+ * The pointer is valid until the next op_add on t (the array may move). */
 OpRecord *op_add(OpTable *t, const char *name, size_t n, SrcLoc loc, bool merge, DiagList *d);
 
-/* Set quantity q of r to v; a different value already there is a conflict: an error at loc. */
+/* Set quantity q of r to v; a different value already there is a conflict: an error at loc. Setting
+ * NaN does nothing (absent stays absent). ERR_OK or ERR_INPUT. */
 int op_set(OpRecord *r, OpQty q, double v, SrcLoc loc, DiagList *d) MUST_CHECK;
 
-/* Add a node voltage. */
+/* Add a node voltage (name canonical, as "x1.tail"). Appends: a dump that lists a node twice gives
+ * two entries. ERR_OK or ERR_NOMEM. */
 int op_add_node(OpTable *t, const char *name, size_t n, double v) MUST_CHECK;
 
-/* The quantity named s[0..n) (case-insensitive, ngspice names and the documented aliases), or -1. */
+/* The quantity named s[0..n) (case-insensitive, ngspice names and the documented aliases), or -1.
+ * Aliases: gmb (gmbs), ids (id), vt (vth), width (w), length (l), mult (m). */
 int op_qty_lookup(const char *s, size_t n);
 
-/* ngspice's instance spelling to biaslint's canonical name: "m.x1.m3" -> "x1.m3", "mn1" -> "mn1";
- * returns the start and length within s. */
+/* As op_qty_lookup, but only ngspice's own spellings (op_qty_name, and "gmb", Mos1's name for gmbs):
+ * what the show and raw readers accept, so that no alias can capture a row ngspice means otherwise. */
+int op_qty_lookup_ngspice(const char *s, size_t n);
+
+/* Decimal number s[0..n) (optional sign, digits, optional fraction, optional exponent; nothing else, no
+ * SI suffix, no spaces) into *v, correctly rounded (as strtod; C locale). For n >= 128 the byte s[n]
+ * must be readable and must not continue the number. Status: */
+enum {
+    OPNUM_OK = 0,
+    OPNUM_SYNTAX = -1,    /* not a decimal number */
+    OPNUM_NONFINITE = -2, /* "nan", "inf", "infinity" with optional sign, any case (ngspice prints -nan) */
+    OPNUM_RANGE = -3,     /* overflows a double */
+};
+int op_parse_number(const char *s, size_t n, double *v);
+
+/* ngspice's instance spelling to biaslint's canonical name: "m.x1.m3" -> "x1.m3", "mn1" -> "mn1",
+ * a leading '@' (vector names) dropped; returns the start and length within s (case kept). */
 void op_canonical(const char *s, size_t n, const char **cs, size_t *cn);
 
 /* The record for a canonical name, or NULL. */
