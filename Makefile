@@ -52,7 +52,7 @@ $(BUILD)/biaslint: $(BUILD)/obj/main.o $(BUILD)/libbiaslint.a
 
 $(BUILD)/tests/%: tests/%.c $(BUILD)/libbiaslint.a tests/testutil.h
 	@mkdir -p $(dir $@)
-	$(CC) $(CPPFLAGS) $(PCFLAGS) $(CMOCKA_CFLAGS) $(CFLAGS) -Wno-conversion -o $@ $< $(BUILD)/libbiaslint.a $(CMOCKA_LIBS) $(LDLIBS)
+	$(CC) $(CPPFLAGS) $(PCFLAGS) $(CMOCKA_CFLAGS) $(CFLAGS) -Wno-conversion -Wno-format-truncation -o $@ $< $(BUILD)/libbiaslint.a $(CMOCKA_LIBS) $(LDLIBS)
 
 unit: $(TEST_BIN)
 	@fail=0; for t in $(TEST_BIN); do \

@@ -80,6 +80,13 @@ int run_check(const Options *o, FILE *out, int color, DiagList *d)
         status = exit_for(rc);
         goto done;
     }
+    if (ds.ndevs == 0) {
+        const SrcFile *top = ds.files.files[0];
+        diag_add(d, DIAG_ERROR, (SrcLoc){top->path, top->len ? 1 : 0, top->len ? 1 : 0},
+                 top->len ? "no MOSFET in this netlist (nor in what it includes): nothing to check"
+                          : "the netlist file is empty: nothing to check");
+        goto done;
+    }
     if ((rc = op_read(o->op, o->op_format, &op, d)) != ERR_OK) {
         status = exit_for(rc);
         goto done;
