@@ -37,7 +37,7 @@ typedef struct {
 
 typedef struct {
     DiagSeverity sev;
-    SrcLoc loc;
+    SrcLoc loc;     /* loc.file is an owned copy (diag_add copies it) */
     char *msg;      /* owned */
     char *excerpt;  /* owned copy of the source line, or NULL */
     uint32_t span;  /* columns to underline under the excerpt, 0 for none */

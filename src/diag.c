@@ -18,6 +18,7 @@ void diag_free(DiagList *d)
     for (size_t i = 0; i < d->n; i++) {
         free(d->items[i].msg);
         free(d->items[i].excerpt);
+        free((char *)d->items[i].loc.file);
     }
     free(d->items);
     memset(d, 0, sizeof *d);
@@ -89,7 +90,11 @@ int diag_vadd(DiagList *d, DiagSeverity sev, SrcLoc loc, const char *fmt, va_lis
         return d->oom ? ERR_NOMEM : status_for(sev);
     g->loc = loc;
     g->msg = vformat(fmt, ap);
-    if (!g->msg) {
+    /* the file name is copied: a diagnostic outlives the loaded file it points into */
+    g->loc.file = loc.file ? strdup(loc.file) : NULL;
+    if (!g->msg || (loc.file && !g->loc.file)) {
+        free(g->msg);
+        free((char *)g->loc.file);
         d->oom = 1;
         return ERR_NOMEM;
     }

@@ -1,0 +1,691 @@
+/* flatten: the hierarchy walked depth first with an explicit stack of frames, one per subcircuit
+ * instance on the current path.
+ *
+ * Parameter scoping is ngspice's, checked by running ngspice 39 (`show m : w l`):
+ * - a name is looked up in the instance's own parameters (the .subckt defaults, replaced by the X
+ *   card's values, and the .param cards of the body), then in the caller's, and so on up to the
+ *   global .param cards: the scope is dynamic, the subcircuit sees its caller's parameters;
+ * - X-card values are evaluated in the caller's scope; an X-card value may also replace a .param of
+ *   the body; a name the subcircuit does not have is ignored (ngspice: silently; we warn);
+ * - within a scope the last definition of a name wins and order does not matter (forward references
+ *   work, as ngspice sorts .param cards by dependency);
+ * - every parameter of an instance is evaluated, used or not (ngspice stops on an undefined one).
+ * Each frame's parameter values are computed lazily on first use and cached in slots; a slot being
+ * computed that is asked for again is a cycle. */
+#include "flatten.h"
+
+#include <math.h>
+#include <stdio.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "buf.h"
+
+#define NONE UINT32_MAX
+#define NDEV_CAP (UINT64_MAX / 4)
+
+enum { SL_TODO, SL_BUSY, SL_DONE, SL_FAILED };
+
+typedef struct {
+    double v;
+    uint8_t st;
+} Slot;
+
+typedef struct {
+    NlSubckt *def;
+    uint32_t parent; /* the caller's frame, NONE for the top level */
+    size_t slot0;    /* first parameter slot */
+    size_t net0;     /* first net (one per node of def) */
+    size_t plen;     /* length of this instance's path in Flat.path */
+    double mult;     /* product of the m of the X cards on the path */
+    size_t next;     /* next X card of def to expand */
+} Frame;
+
+typedef struct {
+    Netlist *nl;
+    Design *ds;
+    Frame *fr;
+    size_t nfr, capfr;
+    Slot *slots;
+    size_t nslots, capslots;
+    const char **nets;
+    size_t nnets, capnets;
+    char *path;       /* hierarchical path of the deepest frame, "x1.xamp" */
+    size_t cappath;
+    uint32_t cur;     /* the frame expressions are evaluated in */
+    int quiet;        /* do not report evaluation errors (models no device uses) */
+    size_t capdevs;
+    ExprEnv env;
+    int nomem;
+} Flat;
+
+/* ---- evaluation ------------------------------------------------------------------------------ */
+
+static void report(Flat *f, uint32_t file, const ExprErr *err)
+{
+    if (f->quiet || err->code == EXPR_E_FAILED || !err->at || !expr_mark_once(err->at))
+        return;
+    char buf[200];
+    const char *msg = expr_strerror(err, buf, sizeof buf);
+    size_t span = err->name && (err->code == EXPR_E_UNDEF || err->code == EXPR_E_CYCLE) ? strlen(err->name) : 1;
+    nl_error(f->nl, file, expr_offset(err->at), (uint32_t)(span > 200 ? 200 : span), "%s", msg);
+}
+
+static int slot_eval(Flat *f, ExprEnv *env, uint32_t fi, uint32_t idx, double *out, ExprErr *err);
+
+static int lookup(void *ctx, ExprEnv *env, const Expr *at, const char *name, double *out, ExprErr *err)
+{
+    Flat *f = ctx;
+    for (uint32_t fi = f->cur; fi != NONE; fi = f->fr[fi].parent) {
+        uint32_t idx;
+        if (!strmap_get(&f->fr[fi].def->parammap, name, &idx))
+            continue;
+        Slot *s = &f->slots[f->fr[fi].slot0 + idx];
+        switch (s->st) {
+        case SL_DONE:
+            *out = s->v;
+            return EXPR_OK;
+        case SL_BUSY:
+            err->code = EXPR_E_CYCLE;
+            err->at = at;
+            err->name = name;
+            return EXPR_E_CYCLE;
+        case SL_FAILED:
+            err->code = EXPR_E_FAILED;
+            err->at = at;
+            err->name = name;
+            return EXPR_E_FAILED;
+        default: {
+            int rc = slot_eval(f, env, fi, idx, out, err);
+            if (rc != EXPR_OK) {
+                err->code = EXPR_E_FAILED;
+                err->at = at;
+                err->name = name;
+            }
+            return rc == EXPR_OK ? EXPR_OK : EXPR_E_FAILED;
+        }
+        }
+    }
+    return EXPR_E_UNDEF;
+}
+
+/* Compute parameter idx of frame fi (state TODO) in its own frame; a failure is reported here,
+ * where the parameter is written. */
+static int slot_eval(Flat *f, ExprEnv *env, uint32_t fi, uint32_t idx, double *out, ExprErr *err)
+{
+    const NlParam *p = &f->fr[fi].def->params[idx];
+    size_t si = f->fr[fi].slot0 + idx;
+    if (!p->val) {
+        f->slots[si].st = SL_FAILED;
+        return EXPR_E_FAILED;
+    }
+    f->slots[si].st = SL_BUSY;
+    uint32_t saved = f->cur;
+    f->cur = fi;
+    double v;
+    int rc = expr_eval(p->val, env, &v, err);
+    f->cur = saved;
+    if (rc == EXPR_OK) {
+        f->slots[si].st = SL_DONE;
+        f->slots[si].v = v;
+        *out = v;
+        return EXPR_OK;
+    }
+    f->slots[si].st = SL_FAILED;
+    report(f, p->file, err);
+    return rc;
+}
+
+static const Expr *func(void *ctx, const char *name, unsigned *nparams)
+{
+    Flat *f = ctx;
+    for (uint32_t fi = f->cur; fi != NONE; fi = f->fr[fi].parent) {
+        /* the functions of this instance's definition and of the definitions around it */
+        for (const NlSubckt *s = f->fr[fi].def; s; s = s->parent) {
+            uint32_t idx;
+            if (strmap_get(&s->funcs, name, &idx)) {
+                *nparams = f->nl->funcs[idx].nparams;
+                return f->nl->funcs[idx].body;
+            }
+        }
+    }
+    return NULL;
+}
+
+/* A card value (written in file) in frame fi: 1 with *out set, 0 when absent, -1 when its evaluation
+ * failed (reported). */
+static int value(Flat *f, uint32_t fi, const NlVal *v, uint32_t file, double *out)
+{
+    if (!v->e) {
+        if (isnan(v->v))
+            return 0;
+        *out = v->v;
+        return 1;
+    }
+    uint32_t saved = f->cur;
+    f->cur = fi;
+    ExprErr err = {0, NULL, NULL};
+    int rc = expr_eval(v->e, &f->env, out, &err);
+    f->cur = saved;
+    if (rc == EXPR_OK)
+        return 1;
+    report(f, file, &err);
+    *out = NAN;
+    return -1;
+}
+
+/* ---- resolving names ------------------------------------------------------------------------- */
+
+static NlSubckt *find_sub(Netlist *nl, const NlSubckt *s, const char *name)
+{
+    for (; s; s = s->parent) {
+        uint32_t i;
+        if (strmap_get(&s->subs, name, &i))
+            return nl->subs[i];
+    }
+    return NULL;
+}
+
+static uint32_t find_model(const NlSubckt *s, const char *name)
+{
+    for (; s; s = s->parent) {
+        uint32_t i;
+        if (strmap_get(&s->models, name, &i))
+            return i;
+    }
+    return NONE;
+}
+
+static int resolve_inst(Flat *f, NlSubckt *s, NlInst *x)
+{
+    Netlist *nl = f->nl;
+    x->sub = find_sub(nl, s, x->subname);
+    if (!x->sub) {
+        nl_error(nl, x->file, x->sub_off, (uint32_t)strlen(x->subname), "undefined subcircuit '%s'", x->subname);
+        x->bad = 1;
+        return ERR_OK;
+    }
+    if (x->nnodes != x->sub->nports) {
+        nl_error(nl, x->file, x->off, (uint32_t)strlen(x->name), "%s has %u node%s but subcircuit '%s' has %u port%s",
+                 x->name, x->nnodes, x->nnodes == 1 ? "" : "s", x->sub->name, x->sub->nports,
+                 x->sub->nports == 1 ? "" : "s");
+        x->bad = 1;
+        return ERR_OK;
+    }
+    for (uint32_t i = 0; i < x->nparams; i++) {
+        uint32_t idx;
+        if (strmap_get(&x->sub->parammap, x->params[i].name, &idx)) {
+            x->slot[i] = (int32_t)idx;
+        } else {
+            x->slot[i] = -1;
+            nl_warn(nl, x->file, x->params[i].off, (uint32_t)strlen(x->params[i].name),
+                    "'%s' is not a parameter of subcircuit '%s' and is ignored", x->params[i].name, x->sub->name);
+        }
+    }
+    return ERR_OK;
+}
+
+static void resolve_models(Flat *f, NlSubckt *s)
+{
+    Netlist *nl = f->nl;
+    for (size_t i = 0; i < s->nmos; i++) {
+        NlMos *m = &s->mos[i];
+        m->fam = find_model(s, m->model);
+        const Card *c = &nl->ds->cards[m->card];
+        size_t off = c->start + m->model_off;
+        uint32_t span = (uint32_t)strlen(m->model);
+        if (m->fam == NONE) {
+            nl_warn(nl, c->file, off, span, "model '%s' is not defined: %s is kept with an unknown type", m->model,
+                    m->name);
+        } else {
+            const NlFamily *fm = &nl->fams[m->fam];
+            if (fm->exact < 0 && !fm->nbins) {
+                nl_warn(nl, c->file, off, span, "model '%s' is a %s model, not nmos or pmos: %s is kept with an unknown type",
+                        m->model, fm->other ? fm->other : "non-MOS", m->name);
+                m->fam = NONE;
+            }
+        }
+    }
+}
+
+/* The chain of definitions on the counting stack from the one at position k, for a message. */
+static void chain(Buf *b, NlSubckt **stk, size_t n, size_t k, const char *last)
+{
+    for (size_t i = k; i < n; i++)
+        if (buf_printf(b, "%s -> ", stk[i]->name ? stk[i]->name : "(top)") != ERR_OK)
+            return;
+    if (buf_puts(b, last) != ERR_OK)
+        return;
+}
+
+/* Resolve what the top level reaches, count its MOSFETs bottom-up and find recursion, with an explicit
+ * stack (the call graph can be deep). */
+static int count(Flat *f)
+{
+    Netlist *nl = f->nl;
+    NlSubckt **stk = NULL;
+    size_t *pos = NULL, n = 0, cap = 0, cap2 = 0;
+    NlSubckt *top = nl->subs[0];
+    if (buf_grow_array((void **)&stk, &cap, 16, sizeof *stk) != ERR_OK ||
+        buf_grow_array((void **)&pos, &cap2, 16, sizeof *pos) != ERR_OK)
+        goto oom;
+    stk[n] = top;
+    pos[n++] = 0;
+    top->state = 1;
+    resolve_models(f, top);
+    while (n) {
+        NlSubckt *s = stk[n - 1];
+        if (pos[n - 1] < s->ninst) {
+            NlInst *x = &s->inst[pos[n - 1]++];
+            resolve_inst(f, s, x);
+            if (x->bad)
+                continue;
+            NlSubckt *c = x->sub;
+            if (c->state == 1) {
+                size_t k = 0;
+                while (k < n && stk[k] != c)
+                    k++;
+                Buf b = BUF_INIT;
+                chain(&b, stk, n, k, c->name);
+                nl_error(nl, x->file, x->sub_off, (uint32_t)strlen(x->subname),
+                         "subcircuit '%s' instantiates itself: %s", c->name, b.data ? b.data : "");
+                buf_free(&b);
+                x->bad = 1;
+                continue;
+            }
+            if (c->state == 0) {
+                if (n == cap && (buf_grow_array((void **)&stk, &cap, n + 1, sizeof *stk) != ERR_OK))
+                    goto oom;
+                if (n == cap2 && (buf_grow_array((void **)&pos, &cap2, n + 1, sizeof *pos) != ERR_OK))
+                    goto oom;
+                c->state = 1;
+                resolve_models(f, c);
+                stk[n] = c;
+                pos[n++] = 0;
+            }
+            continue;
+        }
+        uint64_t nd = s->nmos;
+        uint32_t h = 0;
+        for (size_t i = 0; i < s->ninst; i++) {
+            const NlInst *x = &s->inst[i];
+            if (x->bad)
+                continue;
+            nd = nd + x->sub->ndev > NDEV_CAP ? NDEV_CAP : nd + x->sub->ndev;
+            if (x->sub->height > h)
+                h = x->sub->height;
+        }
+        s->ndev = nd;
+        s->height = h + 1;
+        s->state = 2;
+        n--;
+    }
+    free(stk);
+    free(pos);
+    return ERR_OK;
+oom:
+    free(stk);
+    free(pos);
+    f->nomem = 1;
+    return diag_nomem(nl->d);
+}
+
+/* Report the X card at nesting level max+1 on a deepest path. */
+static void depth_error(Flat *f, unsigned max)
+{
+    NlSubckt *s = f->nl->subs[0];
+    for (unsigned level = 1;; level++) {
+        const NlInst *deep = NULL;
+        for (size_t i = 0; i < s->ninst; i++)
+            if (!s->inst[i].bad && s->inst[i].sub->height + 1 == s->height) {
+                deep = &s->inst[i];
+                break;
+            }
+        if (!deep)
+            return;
+        if (level > max) {
+            nl_error(f->nl, deep->file, deep->off, (uint32_t)strlen(deep->name),
+                     "subcircuits are nested more than %u levels deep here", max);
+            return;
+        }
+        s = deep->sub;
+    }
+}
+
+/* ---- frames ---------------------------------------------------------------------------------- */
+
+static int set_globals(Flat *f, NlSubckt *s)
+{
+    if (s->global || !s->nnodes)
+        return ERR_OK;
+    if (!(s->global = malloc(s->nnodes)))
+        return ERR_NOMEM;
+    for (uint32_t k = 0; k < s->nnodes; k++) {
+        const char *nm = s->nodes[k];
+        s->global[k] = nm == f->nl->nm_zero || nm == f->nl->nm_gnd || strmap_get(&f->nl->globals, nm, NULL);
+    }
+    return ERR_OK;
+}
+
+static int path_room(Flat *f, size_t need)
+{
+    return buf_grow_array((void **)&f->path, &f->cappath, need, 1);
+}
+
+/* The interned name "<path of frame fi>.<local>"; the path buffer must hold fi's path. */
+static const char *qualify(Flat *f, uint32_t fi, const char *local)
+{
+    size_t pl = f->fr[fi].plen, ll = strlen(local);
+    if (path_room(f, pl + ll + 2) != ERR_OK)
+        return NULL;
+    f->path[pl] = '.';
+    memcpy(f->path + pl + 1, local, ll);
+    return str_intern(f->ds->names, f->path, pl + 1 + ll);
+}
+
+/* The hierarchical name of node k of frame fi: top-level and global nets as written, the others
+ * prefixed with the instance path. NULL on out of memory. */
+static const char *net(Flat *f, uint32_t fi, uint32_t k)
+{
+    const char **slot = &f->nets[f->fr[fi].net0 + k];
+    if (*slot)
+        return *slot;
+    const NlSubckt *s = f->fr[fi].def;
+    if (f->fr[fi].parent == NONE || s->global[k])
+        *slot = s->nodes[k];
+    else
+        *slot = qualify(f, fi, s->nodes[k]);
+    return *slot;
+}
+
+/* Push a frame for def (x: the X card from frame parent, NULL for the top level). */
+static int push(Flat *f, uint32_t parent, const NlInst *x, NlSubckt *def, double mult)
+{
+    if (set_globals(f, def) != ERR_OK ||
+        buf_grow_array((void **)&f->fr, &f->capfr, f->nfr + 1, sizeof *f->fr) != ERR_OK ||
+        buf_grow_array((void **)&f->slots, &f->capslots, f->nslots + def->nparams, sizeof *f->slots) != ERR_OK ||
+        buf_grow_array((void **)&f->nets, &f->capnets, f->nnets + def->nnodes, sizeof *f->nets) != ERR_OK)
+        return ERR_NOMEM;
+    uint32_t fi = (uint32_t)f->nfr;
+    Frame *fr = &f->fr[f->nfr++];
+    fr->def = def;
+    fr->parent = parent;
+    fr->slot0 = f->nslots;
+    fr->net0 = f->nnets;
+    fr->mult = mult;
+    fr->next = 0;
+    fr->plen = 0;
+    for (uint32_t i = 0; i < def->nparams; i++)
+        f->slots[f->nslots + i].st = SL_TODO;
+    f->nslots += def->nparams;
+    for (uint32_t k = 0; k < def->nnodes; k++)
+        f->nets[f->nnets + k] = NULL;
+    f->nnets += def->nnodes;
+    if (x) {
+        /* ports take the caller's nets (resolved while the path is still the caller's) */
+        for (uint32_t k = 0; k < def->nports; k++) {
+            const char *n = net(f, parent, x->nodes[k]);
+            if (!n)
+                return ERR_NOMEM;
+            f->nets[f->fr[fi].net0 + k] = n;
+        }
+        /* X-card values, evaluated in the caller's scope */
+        for (uint32_t i = 0; i < x->nparams; i++) {
+            if (x->slot[i] < 0)
+                continue;
+            Slot *s = &f->slots[f->fr[fi].slot0 + (uint32_t)x->slot[i]];
+            NlVal v = {NAN, x->params[i].val};
+            double d = NAN;
+            int r = value(f, parent, &v, x->params[i].file, &d);
+            s = &f->slots[f->fr[fi].slot0 + (uint32_t)x->slot[i]];
+            s->st = r > 0 ? SL_DONE : SL_FAILED;
+            s->v = d;
+        }
+        size_t pl = f->fr[parent].plen, xl = strlen(x->name);
+        if (path_room(f, pl + xl + 2) != ERR_OK)
+            return ERR_NOMEM;
+        if (pl)
+            f->path[pl++] = '.';
+        memcpy(f->path + pl, x->name, xl);
+        f->fr[fi].plen = pl + xl;
+    }
+    /* every parameter of the instance is evaluated, as ngspice does */
+    for (uint32_t i = 0; i < def->nparams; i++) {
+        if (f->slots[f->fr[fi].slot0 + i].st != SL_TODO)
+            continue;
+        double d;
+        ExprErr err = {0, NULL, NULL};
+        slot_eval(f, &f->env, fi, i, &d, &err);
+    }
+    return ERR_OK;
+}
+
+static void pop(Flat *f)
+{
+    Frame *fr = &f->fr[--f->nfr];
+    f->nslots = fr->slot0;
+    f->nnets = fr->net0;
+}
+
+/* ---- models ---------------------------------------------------------------------------------- */
+
+/* Evaluate the fields of model mi once, in frame fi (the first instance that uses it). */
+static void eval_model(Flat *f, uint32_t fi, uint32_t mi)
+{
+    NlModel *x = &f->nl->mods[mi];
+    if (x->evaluated)
+        return;
+    x->evaluated = 1;
+    Model *md = &f->ds->models[mi];
+    double v;
+    if (value(f, fi, &x->level, x->file, &v) > 0)
+        md->level = (int)lround(v);
+    if (value(f, fi, &x->cgso, x->file, &v) > 0)
+        md->cgso = v;
+    if (value(f, fi, &x->cgdo, x->file, &v) > 0)
+        md->cgdo = v;
+    if (value(f, fi, &x->cgbo, x->file, &v) > 0)
+        md->cgbo = v;
+    const NlVal *b[4] = {&x->lmin, &x->lmax, &x->wmin, &x->wmax};
+    for (int k = 0; k < 4; k++)
+        if (value(f, fi, b[k], x->file, &v) > 0)
+            x->bin[k] = v;
+}
+
+/* ngspice 39 (inpgmod.c): a bin covers v when lo < v < hi or v is within 1e-15 of either bound; the
+ * first bin in card order that covers both L and W is used. */
+static int covers(double v, double lo, double hi)
+{
+    return fabs(v - lo) < 1e-15 || fabs(v - hi) < 1e-15 || (lo < v && v < hi);
+}
+
+/* W and L that ngspice 39 uses when the card has none: level 1, 2, 3, 6 and 9 (and an unknown model)
+ * take .options defw/defl (100u); HiSIM_HV (73) 5u and 2u; the BSIM and other models 5u. */
+static void default_wl(const Netlist *nl, const Model *md, double *w, double *l)
+{
+    int lv = md ? md->level : 1;
+    if (!md || lv == 1 || lv == 2 || lv == 3 || lv == 6 || lv == 9) {
+        *w = nl->defw;
+        *l = nl->defl;
+    } else {
+        *w = 5e-6;
+        *l = lv == 73 ? 2e-6 : 5e-6;
+    }
+}
+
+/* ---- devices --------------------------------------------------------------------------------- */
+
+#define W_BINS 1u
+#define W_VALUES 2u
+
+static int emit(Flat *f, uint32_t fi)
+{
+    Netlist *nl = f->nl;
+    Design *ds = f->ds;
+    NlSubckt *def = f->fr[fi].def;
+    for (size_t i = 0; i < def->nmos; i++) {
+        NlMos *mm = &def->mos[i];
+        if (ds->ndevs >= f->capdevs)
+            return ERR_OK; /* not reached: the count was made beforehand */
+        Device *dv = &ds->devs[ds->ndevs++];
+        const Card *card = &ds->cards[mm->card];
+        dv->name = f->fr[fi].plen ? qualify(f, fi, mm->name) : mm->name;
+        if (!dv->name)
+            return ERR_NOMEM;
+        dv->model = mm->model;
+        dv->cell = def->name;
+        dv->card = mm->card;
+        for (int k = 0; k < 4; k++)
+            if (!(dv->nets[k] = net(f, fi, mm->node[k])))
+                return ERR_NOMEM;
+        double w = NAN, l = NAN, m = 1, nf = 1;
+        uint32_t file = card->file;
+        int hw = value(f, fi, &mm->w, file, &w), hl = value(f, fi, &mm->l, file, &l);
+        if (value(f, fi, &mm->m, file, &m) < 0)
+            m = NAN;
+        if (value(f, fi, &mm->nf, file, &nf) < 0)
+            nf = NAN;
+        if (hw > 0)
+            w *= nl->scale;
+        if (hl > 0)
+            l *= nl->scale;
+        const Model *mdl = NULL;
+        if (mm->fam != NONE) {
+            const NlFamily *fm = &nl->fams[mm->fam];
+            if (fm->exact >= 0) {
+                eval_model(f, fi, (uint32_t)fm->exact);
+                mdl = &ds->models[fm->exact];
+            } else {
+                eval_model(f, fi, fm->bins[0]);
+                double bw = w, bl = l;
+                default_wl(nl, &ds->models[fm->bins[0]], &bw, &bl);
+                if (hw > 0)
+                    bw = w;
+                if (hl > 0)
+                    bl = l;
+                for (uint32_t b = 0; b < fm->nbins && !mdl; b++) {
+                    eval_model(f, fi, fm->bins[b]);
+                    const double *r = nl->mods[fm->bins[b]].bin;
+                    if (!isnan(r[0]) && !isnan(r[1]) && !isnan(r[2]) && !isnan(r[3]) && covers(bl, r[0], r[1]) &&
+                        covers(bw, r[2], r[3]))
+                        mdl = &ds->models[fm->bins[b]];
+                }
+                if (!mdl && !(mm->warned & W_BINS)) {
+                    mm->warned |= W_BINS;
+                    nl_warn(nl, card->file, card->start + mm->model_off, (uint32_t)strlen(mm->model),
+                            "no bin of model '%s' covers W=%g L=%g (%s): the type is unknown", mm->model, bw, bl,
+                            dv->name);
+                }
+            }
+        }
+        double dw, dl;
+        default_wl(nl, mdl, &dw, &dl);
+        if (hw == 0)
+            w = dw;
+        if (hl == 0)
+            l = dl;
+        dv->mdl = mdl;
+        dv->type = mdl ? mdl->type : MOS_UNKNOWN;
+        dv->w = w;
+        dv->l = l;
+        dv->m = f->fr[fi].mult * m;
+        dv->nf = nf;
+        if (!(mm->warned & W_VALUES) && (w <= 0 || l <= 0 || m <= 0 || nf <= 0)) {
+            mm->warned |= W_VALUES;
+            const char *what = w <= 0 ? "W" : l <= 0 ? "L" : m <= 0 ? "m" : "nf";
+            double v = w <= 0 ? w : l <= 0 ? l : m <= 0 ? m : nf;
+            nl_warn(nl, card->file, card->start + card->col - 1, (uint32_t)strlen(mm->name),
+                    "%s of %s is %g, not a positive number", what, dv->name, v);
+        }
+    }
+    return ERR_OK;
+}
+
+/* Global options, in the top frame. */
+static void options(Flat *f)
+{
+    Netlist *nl = f->nl;
+    double v;
+    nl->scale = 1.0;
+    nl->defw = nl->defl = 100e-6;
+    if (value(f, 0, &nl->opt_scale.v, nl->opt_scale.file, &v) > 0) {
+        if (v > 0)
+            nl->scale = v;
+        else
+            nl_warn(nl, nl->opt_scale.file, 0, 0, ".options scale=%g is not positive and is ignored", v);
+    }
+    if (value(f, 0, &nl->opt_defw.v, nl->opt_defw.file, &v) > 0)
+        nl->defw = v;
+    if (value(f, 0, &nl->opt_defl.v, nl->opt_defl.file, &v) > 0)
+        nl->defl = v;
+    /* .temp wins over .options temp, whatever their order (ngspice 39) */
+    if (value(f, 0, &nl->dot_temp.v, nl->dot_temp.file, &v) > 0 ||
+        value(f, 0, &nl->opt_temp.v, nl->opt_temp.file, &v) > 0)
+        f->ds->temp_c = v;
+}
+
+int flat_run(Netlist *nl)
+{
+    Flat f;
+    memset(&f, 0, sizeof f);
+    f.nl = nl;
+    f.ds = nl->ds;
+    f.env.lookup = lookup;
+    f.env.func = func;
+    f.env.ctx = &f;
+    f.cur = NONE;
+    Design *ds = nl->ds;
+    int rc = ERR_OK;
+    NlSubckt *top = nl->subs[0];
+    if (count(&f) != ERR_OK)
+        return ERR_NOMEM;
+    if (top->height - 1 > nl->opt.max_subckt_depth) {
+        depth_error(&f, nl->opt.max_subckt_depth);
+        return ERR_OK;
+    }
+    if (top->ndev > nl->opt.max_devices) {
+        nl->nerrors++;
+        diag_add(nl->d, DIAG_ERROR, (SrcLoc){ds->files.files[0]->path, 0, 0},
+                 "the design has %s%llu MOSFETs once flattened, more than the limit of %zu", top->ndev >= NDEV_CAP ? "over " : "",
+                 (unsigned long long)top->ndev, nl->opt.max_devices);
+        return ERR_OK;
+    }
+    if (top->ndev && !(ds->devs = malloc((size_t)top->ndev * sizeof *ds->devs)))
+        return diag_nomem(nl->d);
+    f.capdevs = (size_t)top->ndev;
+    if (push(&f, NONE, NULL, top, 1.0) != ERR_OK)
+        goto oom;
+    options(&f);
+    if (emit(&f, 0) != ERR_OK)
+        goto oom;
+    while (f.nfr > 1 || (f.nfr == 1 && f.fr[0].next < top->ninst)) {
+        uint32_t fi = (uint32_t)f.nfr - 1;
+        Frame *fr = &f.fr[fi];
+        if (fr->next >= fr->def->ninst) {
+            pop(&f);
+            continue;
+        }
+        const NlInst *x = &fr->def->inst[fr->next++];
+        if (x->bad)
+            continue;
+        double m = 1;
+        if (value(&f, fi, &x->m, x->file, &m) < 0)
+            m = NAN;
+        double mult = f.fr[fi].mult * m;
+        if (push(&f, fi, x, x->sub, mult) != ERR_OK || emit(&f, (uint32_t)f.nfr - 1) != ERR_OK)
+            goto oom;
+    }
+    /* models no device used still get their fields, quietly, from the global scope */
+    f.quiet = 1;
+    for (size_t i = 0; i < ds->nmodels; i++)
+        eval_model(&f, 0, (uint32_t)i);
+    goto done;
+oom:
+    rc = diag_nomem(nl->d);
+done:
+    free(f.fr);
+    free(f.slots);
+    free(f.nets);
+    free(f.path);
+    return rc;
+}
