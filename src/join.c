@@ -2,6 +2,8 @@
  * dump cut short are matched by unique prefix against the sorted device names. */
 #include "join.h"
 
+#include <math.h>
+
 #include "buf.h"
 #include <stdlib.h>
 #include <string.h>
@@ -120,6 +122,8 @@ int join_run(const Design *ds, const OpTable *t, const RuleSet *rs, const JoinOp
     if (rc != ERR_OK)
         goto fail;
 
+    size_t nm_differ = 0;
+    const Device *first_m = NULL;
     out->n = ds->ndevs;
     out->overlap = opt->add_overlap;
     for (size_t i = 0; i < ds->ndevs; i++) {
@@ -134,9 +138,18 @@ int join_run(const Design *ds, const OpTable *t, const RuleSet *rs, const JoinOp
         used[row->op - t->recs] = 1;
         out->nmatched++;
         fig_normalize(row->op, dv->type, &row->fig);
+        /* The simulator's own m wins where the dump gives it: ngspice 39 does not multiply m
+           through subcircuit levels, so the netlist's product can differ from what ran. */
+        Device sim = *dv;
+        double dm = row->op->q[OPQ_M];
+        if (!isnan(dm) && dm > 0 && fabs(dm - dv->m) > 1e-9 * dv->m) {
+            if (!nm_differ++)
+                first_m = dv;
+            sim.m = dm;
+        }
         if (opt->add_overlap)
-            fig_add_overlap(&row->fig, dv);
-        fig_derive(&row->fig, dv, rule_bands(rs, dv, NULL));
+            fig_add_overlap(&row->fig, &sim);
+        fig_derive(&row->fig, &sim, rule_bands(rs, dv, NULL));
     }
     for (size_t i = 0; i < t->n; i++) {
         if (used[i])
@@ -154,6 +167,12 @@ int join_run(const Design *ds, const OpTable *t, const RuleSet *rs, const JoinOp
         goto fail;
     }
     report_unmatched(ds, t, out, d);
+    if (nm_differ)
+        diag_add(d, DIAG_WARNING, (SrcLoc){t->file.path, 0, 0},
+                 "for %zu MOSFETs the dump's multiplier m differs from the netlist's (first: %s, netlist "
+                 "m=%g, dump m=%g); the figures use the dump's m, which is what was simulated (ngspice "
+                 "replaces a card's m by its subcircuit call's m instead of multiplying them)",
+                 nm_differ, first_m->name, first_m->m, by_dev[first_m - ds->devs]->q[OPQ_M]);
     free(by_dev);
     free(used);
     return ERR_OK;

@@ -152,6 +152,26 @@ static void test_devices_without_data(void **state)
     teardown(&x);
 }
 
+static void test_dump_multiplier_wins(void **state)
+{
+    (void)state;
+    Fixture x;
+    setup(&x, (const char *[]){"x1.m1", "m2"}, 2);
+    x.devs[0].m = 6; /* the netlist's product of m over the hierarchy */
+    rec(&x, "x1.m1", 0)->q[OPQ_M] = 3; /* what ngspice 39 simulated */
+    rec(&x, "m2", 0)->q[OPQ_M] = 1;
+    Joined j;
+    JoinOptions jo = {0, 0.5};
+    assert_int_equal(join_run(&x.ds, &x.t, x.rs, &jo, &j, &x.d), ERR_OK);
+    /* ID/(W*m) = 10 uA / (2 um * 3) with the simulator's m */
+    assert_close(j.rows[0].fig.id_w, 1e-5 / (2e-6 * 3), 1e-12);
+    assert_close(j.rows[1].fig.id_w, 1e-5 / 2e-6, 1e-12);
+    assert_int_equal(x.d.nwarnings, 1);
+    assert_non_null(strstr(x.d.items[0].msg, "first: x1.m1, netlist m=6, dump m=3"));
+    join_free(&j);
+    teardown(&x);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -160,6 +180,7 @@ int main(void)
         cmocka_unit_test(test_ambiguous_cut_name),
         cmocka_unit_test(test_dump_of_another_netlist),
         cmocka_unit_test(test_devices_without_data),
+        cmocka_unit_test(test_dump_multiplier_wins),
     };
     return cmocka_run_group_tests_name("join", tests, NULL, NULL);
 }
