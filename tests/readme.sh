@@ -1,0 +1,30 @@
+#!/usr/bin/env bash
+# readme: every biaslint command shown in README.md runs, so the documentation cannot drift from the
+# tool. A command is an indented line starting with `build/biaslint ` (with `\` continuations); it
+# runs from the top of the repository after the demo has been simulated, and must not exit with 2 or 3
+# (usage or input error). Commands that write files write them under build/.
+set -u
+top=$(cd "$(dirname "$0")/.." && pwd)
+cd "$top" || exit 1
+build=${BUILD:-build}
+pass=0 fail=0
+if ! bash netlists-demo/run-demo.sh "$build" >"$build/readme-demo.log" 2>&1; then
+    echo "FAIL: the demo did not run"; tail -20 "$build/readme-demo.log"; echo "readme: 0 passed, 1 failed"; exit 1
+fi
+cmds=$(awk '
+    /^    build\/biaslint / || cont { line = line (cont ? " " : "") $0; cont = /\\$/;
+        if (cont) sub(/\\$/, "", line); else { print line; line = "" } }
+' README.md)
+[ -n "$cmds" ] || { echo "FAIL: no biaslint command found in README.md"; echo "readme: 0 passed, 1 failed"; exit 1; }
+while IFS= read -r cmd; do
+    cmd=$(echo "$cmd" | sed -e 's/^ *//' -e "s#^build/biaslint#$build/biaslint#")
+    ( eval "$cmd" ) >/dev/null 2>"$build/readme-cmd.err"
+    rc=$?
+    if [ $rc -ge 2 ]; then
+        fail=$((fail + 1)); echo "FAIL ($rc): $cmd"; head -5 "$build/readme-cmd.err"
+    else
+        pass=$((pass + 1))
+    fi
+done <<<"$cmds"
+echo "readme: $pass passed, $fail failed"
+[ $fail -eq 0 ]
