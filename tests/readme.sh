@@ -26,5 +26,15 @@ while IFS= read -r cmd; do
         pass=$((pass + 1))
     fi
 done <<<"$cmds"
+# the manual page renders without a warning (groff -ww), and the completion script parses
+if command -v groff >/dev/null; then
+    w=$(groff -ww -man -z src/biaslint.1 2>&1)
+    if [ -n "$w" ]; then fail=$((fail + 1)); echo "FAIL: groff warns on src/biaslint.1: $w"; else pass=$((pass + 1)); fi
+fi
+if bash -n src/biaslint.bash; then pass=$((pass + 1)); else fail=$((fail + 1)); echo "FAIL: src/biaslint.bash"; fi
+# every command the main --help lists has its own --help
+for c in $("$build/biaslint" --help | awk '/^commands:/ {on = 1; next} on && /^  [a-z]/ && $1 != "biaslint" {print $1}'); do
+    if "$build/biaslint" "$c" --help >/dev/null 2>&1; then pass=$((pass + 1)); else fail=$((fail + 1)); echo "FAIL: biaslint $c --help"; fi
+done
 echo "readme: $pass passed, $fail failed"
 [ $fail -eq 0 ]
