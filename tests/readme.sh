@@ -36,5 +36,16 @@ if bash -n src/biaslint.bash; then pass=$((pass + 1)); else fail=$((fail + 1)); 
 for c in $("$build/biaslint" --help | awk '/^commands:/ {on = 1; next} on && /^  [a-z]/ && $1 != "biaslint" {print $1}'); do
     if "$build/biaslint" "$c" --help >/dev/null 2>&1; then pass=$((pass + 1)); else fail=$((fail + 1)); echo "FAIL: biaslint $c --help"; fi
 done
+# make install puts the binary, the manual, the rules and the completion under PREFIX in DESTDIR
+dest=$(mktemp -d /tmp/biaslint-install-XXXXXX)
+if make -s install BUILD="$build" PREFIX=/opt/bl DESTDIR="$dest" >/dev/null 2>&1 &&
+    [ -x "$dest/opt/bl/bin/biaslint" ] && [ -f "$dest/opt/bl/share/man/man1/biaslint.1" ] &&
+    [ -f "$dest/opt/bl/share/biaslint/rules/defaults.rules" ] &&
+    [ -f "$dest/opt/bl/share/bash-completion/completions/biaslint" ]; then
+    pass=$((pass + 1))
+else
+    fail=$((fail + 1)); echo "FAIL: make install PREFIX=/opt/bl DESTDIR=$dest"
+fi
+rm -rf "$dest"
 echo "readme: $pass passed, $fail failed"
 [ $fail -eq 0 ]
