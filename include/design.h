@@ -46,7 +46,20 @@ typedef struct {
     const char *nets[4]; /* d, g, s, b: hierarchical node names, interned ("x1.tail", "vdd", "0") */
     const char *cell;    /* subcircuit the card stands in, interned; NULL at top level */
     uint32_t card;       /* index into Design.cards */
+    /* added for PDK netlists (primitive cells, --top/--prefix); zero for a plain M card */
+    const char *simname; /* canonical name of the device's record in the dump when it differs from
+                            name: a primitive's inner M card ("xm4.mn"), under the testbench prefix
+                            with --prefix; NULL: name */
+    uint8_t prim;        /* DEV_MCARD, DEV_PRIM or DEV_BARE */
 } Device;
+
+/* Device.prim: what stands behind a device. For DEV_PRIM and DEV_BARE, name is the X instance, card
+ * the X card, model the cell name and cell the subcircuit holding the X card. */
+enum {
+    DEV_MCARD = 0, /* an M card */
+    DEV_PRIM = 1,  /* an X card of a transistor primitive cell: W, L, m, nf, model of its one M card */
+    DEV_BARE = 2,  /* an X card of a transistor cell the netlist does not define: from the X card */
+};
 
 typedef struct {
     SrcSet files;        /* every file read: the netlist, includes, libraries */

@@ -4,12 +4,17 @@
  * below is shared with flatten.c only.
  *
  * Dialect: SPICE3/ngspice, case-insensitive, with the HSPICE-style constructs of PDK decks.
- * - Read: M and X cards; .subckt/.ends (nested definitions are local to their parent), .param
- *   (global and in subcircuits, several per card), .func, .model nmos|pmos (bins "name.N" chosen by
- *   lmin/lmax/wmin/wmax), .include/.inc, .lib FILE SECTION and .lib NAME ... .endl, .global,
- *   .option(s) temp scale defw defl, .temp, .end (in the top file only: ngspice 39 ignores it in
- *   included files, and so do we). Other element cards and dot cards are skipped; .control blocks
- *   are skipped (their text stays in Design.files).
+ * - Read: M and X cards; .subckt/.ends and .macro/.eom (nested definitions are local to their
+ *   parent), .param/.params/.parameters (global and in subcircuits, several per card), .func,
+ *   .model nmos|pmos (bins "name.N" chosen by lmin/lmax/wmin/wmax), .include/.inc/.incl, .lib FILE
+ *   SECTION and .lib NAME ... .endl, .global, .option(s) temp scale defw defl, .temp, .end (in the
+ *   top file only: ngspice 39 ignores it in included files, and so do we). Other element cards are
+ *   counted per subcircuit (R, C, D apart: primitive cells may hold them) and Q, J, Z, N cards kept
+ *   by name for the summary of devices not checked. Analysis and output dot cards are skipped, any
+ *   other dot card is named in a warning (ngspice 39 stops on it); .control blocks are skipped
+ *   (their text stays in Design.files).
+ * - PDK netlists (primitive.h, NlPdkOptions): primitive cells, --top, undefined transistor cells
+ *   read from their X cards; see flatten.c and DEVELOPERS.md.
  * - File names are looked up next to the including file, then (for .lib) next to the top netlist,
  *   then from the working folder. ngspice 39 tries the working folder first, and for .lib the top
  *   deck's folder rather than the including file's.
@@ -17,8 +22,10 @@
  *   quotes, on X cards and in .param follow ngspice's expression rules (1mil = 1m), as ngspice 39.
  *   In .param a bare value ends at a blank; what follows up to the next name= is ignored with a
  *   warning (ngspice ignores it silently).
- * - Known differences from ngspice 39: m multiplies through the hierarchy (ngspice 39 replaces a
- *   card's m by its caller's); nested ?: is C's (ngspice 39 gives 5 for 1?0?5:6:7); min and max
+ * - m follows ngspice 39's rule (flatten.c, mult_flags). Known differences from ngspice 39: cards
+ *   after a nested .subckt inside a subcircuit called with m= keep their m (ngspice fails on such
+ *   decks); subcircuits are found from the X card's definition outwards for that rule (ngspice: the
+ *   last definition of the name in the deck); nested ?: is C's (ngspice 39 gives 5 for 1?0?5:6:7); min and max
  *   take exactly two arguments (ngspice 39 accepts more and answers oddly); statistical functions
  *   give their nominal value; model bins are chosen for any level (ngspice: BSIM3/4 and HiSIM). */
 #ifndef NETLIST_H
@@ -30,6 +37,7 @@
 #include "design.h"
 #include "diag.h"
 #include "expr.h"
+#include "primitive.h"
 #include "strtab.h"
 
 typedef struct {
@@ -38,9 +46,19 @@ typedef struct {
     unsigned max_subckt_depth; /* 0: 64 */
 } NlOptions;
 
+/* Options for PDK netlists (primitive.h), apart from NlOptions so that its initializers stay valid. */
+typedef struct {
+    const char *top;           /* check this subcircuit as the design (--top), NULL: the top level */
+    const PrimSpec *cells;     /* --primitive / --not-primitive declarations in order (borrowed) */
+    size_t ncells;
+    int allow_missing_lib;     /* a file named by .include/.lib that does not exist is a warning */
+} NlPdkOptions;
+
 /* Load the netlist at path (and what it includes), flatten it, fill *ds. On error returns ERR_INPUT/ERR_IO/
    ERR_NOMEM with located diagnostics in d; ds is then freed/empty. Warnings (e.g. missing model card) go to d too. */
 int nl_load(const char *path, const NlOptions *opt, Design *ds, DiagList *d) MUST_CHECK;
+/* The same with the options of PDK netlists (pdk may be NULL: none); nl_load passes NULL. */
+int nl_load_pdk(const char *path, const NlOptions *opt, const NlPdkOptions *pdk, Design *ds, DiagList *d) MUST_CHECK;
 void nl_free(Design *ds); /* accepts a zeroed Design */
 
 /* ---- The circuit model between netlist.c and flatten.c ---------------------------------------- */
@@ -82,6 +100,18 @@ typedef struct {
 
 typedef struct NlSubckt NlSubckt;
 
+/* An element card of a transistor-like kind biaslint does not check (Q, J, Z, N). */
+typedef struct {
+    const char *name;    /* interned, with its letter */
+    uint32_t file;
+    size_t off;          /* the card's first byte */
+} NlOther;
+
+/* An X card by position: Netlist.subs[sub]->inst[inst]. */
+typedef struct {
+    uint32_t sub, inst;
+} NlXRef;
+
 /* An X card. */
 typedef struct {
     const char *name;    /* interned: "x1" */
@@ -97,6 +127,11 @@ typedef struct {
     size_t off;          /* the card's first byte */
     size_t sub_off;      /* the subcircuit name */
     uint8_t bad;         /* skip when expanding: undefined, wrong node count, recursion */
+    /* PDK netlists */
+    uint8_t bare;        /* set by flatten: the subcircuit is undefined and the X card is checked as a
+                            transistor from its own parameters (a DEV_BARE device) */
+    uint8_t warned;      /* a per-card warning was given (m replaced) */
+    uint32_t card;       /* index into Design.cards: the X card's span, for annotation */
 } NlInst;
 
 /* A .subckt definition; the top level is one too (name NULL, no ports). */
@@ -128,6 +163,17 @@ struct NlSubckt {
     uint32_t height;      /* 1 + deepest nesting of X cards below */
     uint8_t state;        /* 0 unvisited, 1 being counted, 2 counted */
     uint8_t *global;      /* per node: 1 when the net is global (0, gnd, .global) (malloc'd) */
+    /* PDK netlists: the other element cards, for primitives and the summary of unchecked devices */
+    uint32_t npassive;    /* R, C and D cards */
+    uint32_t nforeign;    /* every other element card but M and X (sources, L, K, B, Q, J, Z, N, ...) */
+    NlOther *other;       /* the transistor-like ones among them: Q, J, Z, N (malloc'd) */
+    size_t nother, capother;
+    uint32_t mflag;       /* set by flatten: reading-order index of the X card whose m= makes ngspice
+                             give this subcircuit a parameter m (NL_NONE: none) */
+    uint8_t mdecl;        /* flatten: 1 when m is among the .subckt line's parameters */
+    uint8_t prim;         /* flatten: PrimClass */
+    MosType primtype;     /* flatten: a declared type (--primitive CELL=nmos), MOS_UNKNOWN otherwise */
+    uint8_t called;       /* flatten: some X card of the netlist names this subcircuit */
 };
 
 /* A .model card; Design.models holds its public part at the same index. */
@@ -172,6 +218,12 @@ typedef struct {
     NlOpt opt_temp, opt_scale, opt_defw, opt_defl, dot_temp; /* .options temp scale defw defl, .temp */
     double scale, defw, defl; /* evaluated by flatten */
     const char *nm_zero, *nm_gnd; /* interned "0" and "gnd" */
+    /* PDK netlists */
+    NlPdkOptions pdk;       /* a copy (zero when none were given) */
+    NlXRef *xorder;         /* every X card in reading order (ngspice's m= rule depends on it) (malloc'd) */
+    size_t nxorder, capxorder;
+    uint32_t nmissing;      /* files named by .include/.lib that were not found (allow_missing_lib) */
+    const char *missing;    /* the first of them, as written (arena) */
 } Netlist;
 
 /* A located error or warning at byte off of file (span: columns to underline). Errors are counted in

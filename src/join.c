@@ -10,10 +10,17 @@
 
 #define JOIN_NAMES_LISTED 5
 
+/* The name under which the dump holds a device's record: a primitive's inner M card, or the name
+ * under the testbench prefix (Device.simname, PDK netlists); else its own name. */
+static inline const char *rec_name(const Device *dv)
+{
+    return dv->simname ? dv->simname : dv->name;
+}
+
 static int by_name(const void *a, const void *b)
 {
     const Device *x = *(const Device *const *)a, *y = *(const Device *const *)b;
-    return strcmp(x->name, y->name);
+    return strcmp(rec_name(x), rec_name(y));
 }
 
 /* Index of the first sorted device whose name is >= key. */
@@ -22,7 +29,7 @@ static size_t lower_bound(const Device **sorted, size_t n, const char *key)
     size_t lo = 0, hi = n;
     while (lo < hi) {
         size_t mid = lo + (hi - lo) / 2;
-        if (strcmp(sorted[mid]->name, key) < 0)
+        if (strcmp(rec_name(sorted[mid]), key) < 0)
             lo = mid + 1;
         else
             hi = mid;
@@ -52,7 +59,7 @@ static int match_truncated(const Design *ds, const OpTable *t, const OpRecord **
         size_t plen = strlen(r->name), k = lower_bound(sorted, ds->ndevs, r->name);
         const Device *hit = NULL;
         size_t nhits = 0;
-        for (; k < ds->ndevs && strncmp(sorted[k]->name, r->name, plen) == 0; k++) {
+        for (; k < ds->ndevs && strncmp(rec_name(sorted[k]), r->name, plen) == 0; k++) {
             if (by_dev[sorted[k] - ds->devs] && by_dev[sorted[k] - ds->devs] != r)
                 continue; /* this device has its own, exact record */
             hit = sorted[k];
@@ -117,7 +124,7 @@ int join_run(const Design *ds, const OpTable *t, const RuleSet *rs, const JoinOp
     if (!by_dev || !used || !out->rows)
         goto nomem;
     for (size_t i = 0; i < ds->ndevs; i++)
-        by_dev[i] = op_find(t, ds->devs[i].name);
+        by_dev[i] = op_find(t, rec_name(&ds->devs[i]));
     int rc = match_truncated(ds, t, by_dev, d);
     if (rc != ERR_OK)
         goto fail;
@@ -170,8 +177,9 @@ int join_run(const Design *ds, const OpTable *t, const RuleSet *rs, const JoinOp
     if (nm_differ)
         diag_add(d, DIAG_WARNING, (SrcLoc){t->file.path, 0, 0},
                  "for %zu MOSFETs the dump's multiplier m differs from the netlist's (first: %s, netlist "
-                 "m=%g, dump m=%g); the figures use the dump's m, which is what was simulated (ngspice "
-                 "replaces a card's m by its subcircuit call's m instead of multiplying them)",
+                 "m=%g, dump m=%g); the figures use the dump's m, which is what was simulated (the netlist "
+                 "reader already follows ngspice's m= rule, so the dump may come from another version of "
+                 "the netlist)",
                  nm_differ, first_m->name, first_m->m, by_dev[first_m - ds->devs]->q[OPQ_M]);
     free(by_dev);
     free(used);

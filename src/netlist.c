@@ -118,6 +118,7 @@ typedef struct {
     int stop;        /* `.end` was read in the top file */
     int nomem;
     int warned_if;
+    StrMap warned_dot; /* dot cards not supported that were named in a warning already */
 } Parser;
 
 static int nomem(Parser *ps)
@@ -640,7 +641,7 @@ static int card_mos(Parser *ps, uint32_t file, const LexLine *ln, size_t anchor)
 }
 
 /* X<name> node... subckt [params:] [name=value ...] */
-static int card_inst(Parser *ps, uint32_t file, const LexLine *ln)
+static int card_inst(Parser *ps, uint32_t file, const LexLine *ln, size_t anchor)
 {
     Netlist *nl = ps->nl;
     const char *text = file_text(ps, file);
@@ -654,7 +655,7 @@ static int card_inst(Parser *ps, uint32_t file, const LexLine *ln)
     x.m.v = NAN;
     x.file = file;
     x.off = ln->body;
-    if (!(x.name = intern_nocache(ps, text, name)))
+    if (!(x.name = intern_nocache(ps, text, name)) || add_card(ps, file, ln, anchor, &x.card) != ERR_OK)
         return ERR_NOMEM;
     int rc, bad = 0;
     /* the bare words: nodes, then the subcircuit name */
@@ -736,7 +737,9 @@ static int card_inst(Parser *ps, uint32_t file, const LexLine *ln)
     buf_free(&params);
     if (bad)
         return ERR_INPUT;
-    if (BUF_PUSH(s->inst, s->ninst, s->capinst, x) != ERR_OK)
+    NlXRef xr = {s->index, (uint32_t)s->ninst};
+    if (BUF_PUSH(s->inst, s->ninst, s->capinst, x) != ERR_OK ||
+        BUF_PUSH(nl->xorder, nl->nxorder, nl->capxorder, xr) != ERR_OK)
         return nomem(ps);
     return ERR_OK;
 oom:
@@ -1106,8 +1109,21 @@ static int card_include(Parser *ps, uint32_t file, const LexLine *ln, LexCur *c,
         return nomem(ps);
     uint32_t idx;
     int rc = found ? open_file(ps, path, file, ft.off, ft.len, &idx) : ERR_IO;
+    if (!found && nl->pdk.allow_missing_lib) {
+        /* a PDK library that is not installed here: go on, its cells are checked from their X cards */
+        if (!nl->nmissing++ && !(nl->missing = arena_strndup(&nl->ds->arena, text + ft.off, ft.len))) {
+            free(path);
+            return nomem(ps);
+        }
+        nl_warn(nl, file, ft.off, span_of(ft.len),
+                "cannot open '%s': no such file; going on without it (--allow-missing-lib): the models and "
+                "cells it defines are missing", path);
+        free(path);
+        return ERR_OK;
+    }
     if (!found)
-        nl_error(nl, file, ft.off, span_of(ft.len), "cannot open '%s': no such file", path);
+        nl_error(nl, file, ft.off, span_of(ft.len),
+                 "cannot open '%s': no such file (--allow-missing-lib checks the netlist without it)", path);
     if (rc != ERR_OK) {
         free(path);
         return rc == ERR_NOMEM ? rc : ERR_INPUT;
@@ -1151,6 +1167,70 @@ static int card_include(Parser *ps, uint32_t file, const LexLine *ln, LexCur *c,
     rc = read_range(ps, idx, lex_bom(f->text, f->len), f->len, 1, 0, a);
     ps->nact--;
     return rc;
+}
+
+/* Any element card but M and X: R, C and D are counted as the passives of the enclosing definition
+ * (a primitive cell may hold them), every other card as foreign; the transistor-like ones (Q J Z N)
+ * are kept by name, so that the devices biaslint does not check can be listed. */
+static int card_element(Parser *ps, uint32_t file, const LexLine *ln)
+{
+    NlSubckt *s = cur_def(ps);
+    const char *text = file_text(ps, file);
+    int ch = (unsigned char)text[ln->body] | 0x20;
+    if (ch == 'r' || ch == 'c' || ch == 'd') {
+        if (s->npassive < UINT32_MAX)
+            s->npassive++;
+        return ERR_OK;
+    }
+    if (s->nforeign < UINT32_MAX)
+        s->nforeign++;
+    if (prim_unchecked_kind(ch) < 0)
+        return ERR_OK;
+    LexCur c;
+    lex_cur_init(&c, text, ln);
+    LexTok name;
+    lex_word(&c, &name, 0);
+    NlOther o = {intern_nocache(ps, text, name), file, ln->body};
+    if (!o.name)
+        return ERR_NOMEM;
+    if (BUF_PUSH(s->other, s->nother, s->capother, o) != ERR_OK)
+        return nomem(ps);
+    return ERR_OK;
+}
+
+/* A dot card the reader has no use for. Analyses and output cards that ngspice 39 accepts are
+ * skipped; any other is named in a warning (once per card name), since ngspice 39 stops on it. */
+static int card_dot_other(Parser *ps, uint32_t file, LexTok kw)
+{
+    static const char *const quiet[] = {
+        ".op",    ".dc",      ".ac",    ".tran",    ".noise", ".pz",   ".tf",           ".sens",  ".disto",
+        ".four",  ".fourier", ".pss",   ".sp",      ".print", ".plot", ".probe",        ".save",  ".savecurrents",
+        ".meas",  ".measure", ".ic",    ".nodeset", ".width", ".title", ".csparam",     ".prot",  ".unprot",
+        ".endif",
+    };
+    const char *text = file_text(ps, file);
+    for (size_t i = 0; i < sizeof quiet / sizeof quiet[0]; i++)
+        if (word_is(text, kw, quiet[i]))
+            return ERR_OK;
+    const char *nm = intern(ps, text, kw);
+    if (!nm)
+        return ERR_NOMEM;
+    if (strmap_get(&ps->warned_dot, nm, NULL))
+        return ERR_OK;
+    if (strmap_put(&ps->warned_dot, nm, 1) != ERR_OK)
+        return nomem(ps);
+    uint32_t span = span_of(kw.len);
+    if (word_is(text, kw, ".hdl"))
+        return nl_warn(ps->nl, file, kw.off, span,
+                       "'.hdl' (Verilog-A models) is not supported: ngspice 39 stops on it and biaslint does not "
+                       "read it, so devices that use its models are not checked");
+    return nl_warn(ps->nl, file, kw.off, span,
+                   "'%s' is not a card ngspice 39 knows (it stops with 'unimplemented control card'); biaslint "
+                   "ignores it%s",
+                   nm,
+                   word_is(text, kw, ".protect") ? " and reads the cards up to .unprotect as written"
+                   : word_is(text, kw, ".alter") ? " and reads the cards after it as part of the one circuit"
+                                                 : "");
 }
 
 /* States of read_range between cards. */
@@ -1209,12 +1289,12 @@ static int read_range(Parser *ps, uint32_t file, size_t start, size_t end, uint3
             break;
         case 'x':
         case 'X':
-            rc = card_inst(ps, file, &ln);
+            rc = card_inst(ps, file, &ln, anchor);
             break;
         case '.':
-            if (word_is(text, kw, ".subckt")) {
+            if (word_is(text, kw, ".subckt") || word_is(text, kw, ".macro")) { /* ngspice 39: .macro/.eom too */
                 rc = card_subckt(ps, file, &ln, &c);
-            } else if (word_is(text, kw, ".ends")) {
+            } else if (word_is(text, kw, ".ends") || word_is(text, kw, ".eom")) {
                 if (ps->nopen <= 1) {
                     nl_error(nl, file, ln.body, 5, ".ends without .subckt");
                 } else {
@@ -1225,11 +1305,12 @@ static int read_range(Parser *ps, uint32_t file, size_t start, size_t end, uint3
                                 (int)(en.len > 60 ? 60 : en.len), text + en.off, s->name);
                     ps->nopen--;
                 }
-            } else if (word_is(text, kw, ".param")) {
+            } else if (word_is(text, kw, ".param") || word_is(text, kw, ".params") ||
+                       word_is(text, kw, ".parameter") || word_is(text, kw, ".parameters")) { /* as ngspice 39 */
                 rc = param_list(ps, file, &c, cur_def(ps), 1);
             } else if (word_is(text, kw, ".model")) {
                 rc = card_model(ps, file, &ln, &c);
-            } else if (word_is(text, kw, ".include") || word_is(text, kw, ".inc")) {
+            } else if (word_is(text, kw, ".include") || word_is(text, kw, ".inc") || word_is(text, kw, ".incl")) {
                 rc = card_include(ps, file, &ln, &c, anchor, 0);
             } else if (word_is(text, kw, ".lib")) {
                 LexCur probe = c;
@@ -1269,14 +1350,16 @@ static int read_range(Parser *ps, uint32_t file, size_t start, size_t end, uint3
                     nl_warn(nl, file, ln.body, (uint32_t)kw.len,
                             "conditional blocks are not evaluated by biaslint: the cards of every branch are read");
                 ps->warned_if = 1;
+            } else {
+                rc = card_dot_other(ps, file, kw); /* analyses and output cards are skipped; others named */
             }
-            /* every other dot card (.op .tran .save .print .meas .ic .nodeset ...) is skipped */
             break;
         default:
             if (!((ch >= 'a' && ch <= 'z') || (ch >= 'A' && ch <= 'Z')))
                 nl_warn(nl, file, ln.body, 1, "a card starting with '%c' is not a SPICE card and is ignored",
                         ch >= 0x21 && ch < 0x7f ? ch : '?');
-            /* other elements (R C L V I E F G H D Q J K B S W T U O Y N P A Z ...) are not analysed */
+            else
+                rc = card_element(ps, file, &ln); /* counted (primitives), Q J Z N kept for the summary */
             break;
         }
         if (rc == ERR_NOMEM || ps->nomem)
@@ -1413,6 +1496,7 @@ static void free_subckt(NlSubckt *s)
     strmap_free(&s->models);
     strmap_free(&s->funcs);
     free(s->global);
+    free(s->other);
     free(s);
 }
 
@@ -1427,11 +1511,13 @@ static void free_netlist(Netlist *nl)
     free(nl->fams);
     free(nl->funcs);
     strmap_free(&nl->globals);
+    free(nl->xorder);
 }
 
 static void free_parser(Parser *ps)
 {
     free(ps->icache);
+    strmap_free(&ps->warned_dot);
     free(ps->open);
     free(ps->act);
     strmap_free(&ps->filemap);
@@ -1457,6 +1543,11 @@ void nl_free(Design *ds)
 
 int nl_load(const char *path, const NlOptions *opt, Design *ds, DiagList *d)
 {
+    return nl_load_pdk(path, opt, NULL, ds, d);
+}
+
+int nl_load_pdk(const char *path, const NlOptions *opt, const NlPdkOptions *pdk, Design *ds, DiagList *d)
+{
     int oom_before = d->oom;
     memset(ds, 0, sizeof *ds);
     arena_init(&ds->arena);
@@ -1467,6 +1558,8 @@ int nl_load(const char *path, const NlOptions *opt, Design *ds, DiagList *d)
     nl.d = d;
     if (opt)
         nl.opt = *opt;
+    if (pdk)
+        nl.pdk = *pdk;
     if (!nl.opt.max_devices)
         nl.opt.max_devices = DEFAULT_MAX_DEVICES;
     if (!nl.opt.max_include_depth)

@@ -75,8 +75,8 @@ static void test_includes_and_lib(void **state)
     assert_int_equal(p->type, MOS_PMOS);
     assert_string_equal(n->cell, "inv");
     assert_null(t->cell);
-    /* cards: one per M card in the text, spans and anchors */
-    assert_int_equal(ds.ncards, 4);
+    /* cards: one per M and X card in the text (X cards for primitives), spans and anchors */
+    assert_int_equal(ds.ncards, 5);
     const char *top = ds.files.files[0]->text;
     const Card *ct = &ds.cards[t->card], *cn = &ds.cards[n->card];
     assert_int_equal(ct->file, 0);

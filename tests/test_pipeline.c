@@ -98,7 +98,7 @@ static void check_circuit(const char *dir, const char *cir)
     fprintf(fp, "save all"); /* vectors must be named before op: ngspice has no wildcards */
     for (size_t i = 0; i < ds.ndevs; i++) {
         char v[128];
-        vec_name(ds.devs[i].name, v, sizeof v);
+        vec_name(ds.devs[i].simname ? ds.devs[i].simname : ds.devs[i].name, v, sizeof v); /* record name */
         fprintf(fp, " %s[id] %s[gm] %s[gds] %s[vdsat] %s[vgs] %s[vds] %s[vbs]", v, v, v, v, v, v, v);
         fprintf(fp, ds.devs[i].mdl && ds.devs[i].mdl->level == 1 ? " %s[von]" : " %s[vth] %s[cgg]", v, v);
     }
@@ -107,7 +107,7 @@ static void check_circuit(const char *dir, const char *cir)
     fprintf(fp, "write %s/op.raw\n", work);
     for (size_t i = 0; i < ds.ndevs; i++) {
         char v[128];
-        vec_name(ds.devs[i].name, v, sizeof v);
+        vec_name(ds.devs[i].simname ? ds.devs[i].simname : ds.devs[i].name, v, sizeof v); /* record name */
         int l1 = ds.devs[i].mdl && ds.devs[i].mdl->level == 1;
         fprintf(fp, "print %s[id] %s[gm] %s[gds] %s[vdsat] %s[%s]\n", v, v, v, v, v, l1 ? "von" : "vth");
     }
@@ -142,7 +142,7 @@ static void check_circuit(const char *dir, const char *cir)
         for (size_t i = 0; i < j.n; i++) {
             const Row *r = &j.rows[i];
             char v[128], q[160];
-            vec_name(r->dev->name, v, sizeof v);
+            vec_name(r->dev->simname ? r->dev->simname : r->dev->name, v, sizeof v);
             int l1 = r->dev->mdl && r->dev->mdl->level == 1;
             for (int c = 0; c < QTY_CHECKED; c++) {
                 snprintf(q, sizeof q, "%s[%s]", v, c == 4 && l1 ? "von" : qty_checked[c]);
