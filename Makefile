@@ -22,7 +22,7 @@ LIB_OBJ  := $(LIB_SRC:src/%.c=$(BUILD)/obj/%.o) $(BUILD)/obj/defaults_rules.o
 TEST_SRC := $(wildcard tests/test_*.c)
 TEST_BIN := $(TEST_SRC:tests/%.c=$(BUILD)/tests/%)
 
-.PHONY: all test unit integration sanitize demo deps clean bench install
+.PHONY: all test unit integration sanitize demo deps clean bench install hostile valgrind fuzz fuzz-bins
 
 all: $(BUILD)/biaslint
 
@@ -62,12 +62,45 @@ unit: $(TEST_BIN)
 integration: $(BUILD)/biaslint
 	BIASLINT=$(BUILD)/biaslint bash tests/integration.sh
 
-test: all unit integration
+# Hostile input and the guarantees (tests/hostile.sh): bad-input cases, round trips, limits.
+hostile: $(BUILD)/biaslint
+	BIASLINT=$(BUILD)/biaslint bash tests/hostile.sh
+
+test: all unit integration hostile
 
 # The whole suite again, under AddressSanitizer and UndefinedBehaviorSanitizer, in its own build tree.
 sanitize:
 	$(MAKE) BUILD=build/sanitize CFLAGS="-O1 -g -fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=all" \
 	  LDFLAGS="-fsanitize=address,undefined" test
+
+# The integration and hostile-input tests with every biaslint run under valgrind memcheck; any error
+# or leak fails the run (logs in build/valgrind/).
+VALGRIND_FLAGS := -q --error-exitcode=99 --leak-check=full --show-leak-kinds=all --errors-for-leak-kinds=all
+valgrind: $(BUILD)/biaslint
+	rm -rf build/valgrind && mkdir -p build/valgrind
+	printf '#!/bin/sh\nexec valgrind $(VALGRIND_FLAGS) --log-file=%s/vg.%%p.log %s "$$@"\n' \
+	  "$(CURDIR)/build/valgrind" "$(CURDIR)/$(BUILD)/biaslint" >build/valgrind/biaslint
+	chmod +x build/valgrind/biaslint
+	BIASLINT=build/valgrind/biaslint bash tests/integration.sh
+	BIASLINT=build/valgrind/biaslint bash tests/hostile.sh
+	@if grep -l . build/valgrind/vg.*.log; then echo "valgrind: errors or leaks in the logs above"; exit 1; fi; \
+	  echo "valgrind: $$(ls build/valgrind/vg.*.log | wc -l) runs, no errors, no leaks"
+
+# Fuzzing (tests/fuzz): one libFuzzer target per reader, built with clang under ASan+UBSan in
+# build/fuzz, seed corpora made from the files in tests/. `make fuzz FUZZ_SECONDS=N` runs each target
+# N seconds in turn; results are appended to build/fuzz/stats.txt.
+FUZZ_CC      ?= clang
+FUZZ_SECONDS ?= 60
+FUZZ_TARGETS ?= netlist expr show raw csv rules $(if $(wildcard include/lut.h),lut)
+FUZZ_CFLAGS  := -O1 -g -fno-omit-frame-pointer -fsanitize=address,undefined -fno-sanitize-recover=all \
+                -std=c11 -Wall -Wextra -Werror -Wshadow -Wconversion -Wno-sign-conversion -DICACHE_BITS=8
+fuzz:
+	$(MAKE) BUILD=build/fuzz CC=$(FUZZ_CC) CFLAGS="$(FUZZ_CFLAGS) -fsanitize=fuzzer-no-link" fuzz-bins
+	sh tests/fuzz/mkcorpus.sh build/fuzz/corpus
+	sh tests/fuzz/run.sh build/fuzz $(FUZZ_SECONDS) $(FUZZ_TARGETS)
+fuzz-bins: $(FUZZ_TARGETS:%=$(BUILD)/fuzz_%)
+$(BUILD)/fuzz_%: tests/fuzz/fuzz_%.c tests/fuzz/fuzz.h $(BUILD)/libbiaslint.a
+	$(CC) $(CPPFLAGS) $(PCFLAGS) $(CFLAGS) -fsanitize=fuzzer -o $@ $< $(BUILD)/libbiaslint.a $(LDLIBS)
 
 # Installs only what is missing, and says what it does.
 DEBS := gcc make pkg-config libcsv-dev libpcre2-dev libcmocka-dev ngspice

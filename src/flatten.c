@@ -1096,6 +1096,19 @@ int flat_run(Netlist *nl)
         goto done;
     }
     if (top->ndev > nl->opt.max_devices) {
+        /* located at the top-level X card that brings in the most, so the message has a line */
+        const NlInst *big = NULL;
+        for (size_t i = 0; i < top->ninst; i++)
+            if (!top->inst[i].bad && top->inst[i].sub && (!big || top->inst[i].sub->ndev > big->sub->ndev))
+                big = &top->inst[i];
+        if (big) {
+            nl_error(nl, big->file, big->off, (uint32_t)strlen(big->name),
+                     "the design has %s%llu MOSFETs once flattened, more than the limit of %zu (%s%llu in one %s); "
+                     "--max-devices sets the limit",
+                     top->ndev >= NDEV_CAP ? "over " : "", (unsigned long long)top->ndev, nl->opt.max_devices,
+                     big->sub->ndev >= NDEV_CAP ? "over " : "", (unsigned long long)big->sub->ndev, big->sub->name);
+            goto done;
+        }
         nl->nerrors++;
         diag_add(nl->d, DIAG_ERROR, (SrcLoc){ds->files.files[0]->path, 0, 0},
                  "the design has %s%llu MOSFETs once flattened, more than the limit of %zu", top->ndev >= NDEV_CAP ? "over " : "",

@@ -95,7 +95,9 @@ typedef struct {
 
 /* A direct-mapped cache in front of the name table for names of up to 8 bytes (nodes, models,
  * instance names): most names of a big netlist repeat, and this saves a probe of a large table. */
+#ifndef ICACHE_BITS /* the fuzz build (make fuzz) sets 8: a 2.5 MB calloc per load is most of its time */
 #define ICACHE_BITS 16
+#endif
 typedef struct {
     uint64_t key;            /* the case-folded bytes */
     size_t len;

@@ -337,6 +337,11 @@ static void end_row(Csv *c)
         report(c, DIAG_ERROR, c->row_off, 0, "more than %u extra values in one table", (unsigned)UINT32_MAX);
         goto reset;
     }
+    if (memchr(c->name.data, '\0', c->name.len)) { /* a name biaslint could not print nor match */
+        report(c, DIAG_ERROR, field_off(c, c->name_field), (uint32_t)c->name.len,
+               "a NUL byte in this device name: the file is damaged");
+        goto reset;
+    }
     size_t before = t->n;
     OpRecord *r = op_add(t, c->name.data, c->name.len, (SrcLoc){t->file.path, c->row_line, 1}, true, c->d);
     if (!r) {

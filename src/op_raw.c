@@ -356,6 +356,8 @@ static int parse_var(Raw *r, const Plot *pl, size_t i, Var *v, NodeName **nodes,
     if (!ok || idx != i)
         return fail_at(r, at(r, tk[0]), true, (uint32_t)tn[0], "bad variable index '%.*s': expected %zu",
                        (int)tn[0], tk[0], i);
+    if (memchr(tk[1], '\0', tn[1]))
+        return fail_at(r, at(r, tk[1]), true, (uint32_t)tn[1], "variable %zu: a NUL byte in its name", i);
     if (dims0)
         return ERR_OK; /* saved under a name ngspice does not know: no data */
     const char *nm = tk[1];

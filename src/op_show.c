@@ -288,6 +288,12 @@ static int start_block(Show *s)
         size_t cl;
         op_canonical(tk->s, tk->n, &cn, &cl);
         SrcLoc loc = tok_loc(s, tk);
+        if (memchr(cn, '\0', cl)) { /* a name biaslint could not print nor match */
+            fail_at(s, loc, (uint32_t)tk->n, "a NUL byte in this device name: the file is damaged");
+            if (BUF_PUSH(s->cols, s->ncols, s->colcap, NO_RECORD) != ERR_OK)
+                return ERR_NOMEM;
+            continue;
+        }
         OpRecord *r = op_add(t, cn, cl, loc, true, s->d);
         if (!r)
             return ERR_NOMEM; /* merge never fails otherwise */

@@ -52,7 +52,7 @@ static bool same_fold(const char *a, size_t n, const char *lower)
 static bool same_n(const char *a, const char *b, size_t n)
 {
     for (size_t i = 0; i < n; i++)
-        if (a[i] != b[i])
+        if (a[i] != b[i] || !b[i]) /* a NUL in a (damaged input) must not walk past b's end */
             return false;
     return b[n] == '\0';
 }

@@ -29,7 +29,14 @@ int src_load(SrcFile *f, const char *path, SrcLoc from, DiagList *d)
         diag_add(d, DIAG_ERROR, from.file ? from : (SrcLoc){path, 0, 0}, "'%s' is a folder, not a file", path);
         return ERR_IO;
     }
-    /* Regular files are read in one go; pipes and the like are read until EOF. */
+    /* A device (/dev/zero, a terminal) may never end: only files and pipes are read. */
+    if (S_ISCHR(st.st_mode) || S_ISBLK(st.st_mode) || S_ISSOCK(st.st_mode)) {
+        close(fd);
+        diag_add(d, DIAG_ERROR, from.file ? from : (SrcLoc){path, 0, 0},
+                 "'%s' is a device, not a file: biaslint reads files and pipes only", path);
+        return ERR_IO;
+    }
+    /* Regular files are read in one go; pipes are read until EOF. */
     size_t cap = S_ISREG(st.st_mode) ? (size_t)st.st_size + 1 : 65536;
     char *text = malloc(cap);
     size_t len = 0;

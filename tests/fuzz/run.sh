@@ -1,0 +1,31 @@
+#!/bin/sh
+# run: each fuzz target in turn for SECONDS seconds on its corpus (`make fuzz` calls this):
+#   sh tests/fuzz/run.sh FUZZBUILD SECONDS TARGET...
+# New inputs go to FUZZBUILD/corpus/<target>, crashes to FUZZBUILD/artifacts/. One line per run is
+# appended to FUZZBUILD/stats.txt: date, target, seconds, executions, result. Exit 1 when a target
+# failed (a crash, a leak, a timeout, an out-of-memory): its log is FUZZBUILD/log/<target>.log.
+set -u
+secs=$2
+here=$(cd "$(dirname "$0")" && pwd)
+mkdir -p "$1/artifacts" "$1/log"
+fb=$(cd "$1" && pwd) # absolute: the netlist target works in a private folder
+shift 2
+status=0
+for t in "$@"; do
+    dict=
+    [ -f "$here/$t.dict" ] && dict="-dict=$here/$t.dict"
+    log="$fb/log/$t.log"
+    # -timeout: one input may take 10 s at most (a hang is a bug); -rss_limit_mb: 2 GiB of memory
+    "$fb/fuzz_$t" -max_total_time="$secs" -timeout=10 -rss_limit_mb=2048 -max_len=16384 -print_final_stats=1 \
+        -artifact_prefix="$fb/artifacts/$t-" $dict "$fb/corpus/$t" >"$log" 2>&1
+    rc=$?
+    execs=$(sed -n 's/^stat::number_of_executed_units: *//p' "$log" | tail -1)
+    result=ok
+    [ $rc -eq 0 ] || { result="FAILED($rc)"; status=1; }
+    printf '%s %-8s %6ss %12s execs %s\n' "$(date -u +%Y-%m-%dT%H:%M:%SZ)" "$t" "$secs" "${execs:-?}" "$result" |
+        tee -a "$fb/stats.txt"
+    if [ $rc -ne 0 ]; then
+        grep -E 'ERROR|SUMMARY|broken promise|Test unit written' "$log" | head -20
+    fi
+done
+exit $status

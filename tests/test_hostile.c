@@ -1,0 +1,660 @@
+/* test_hostile: the guarantees of the "Bad input" section through the library, and the regression
+ * tests of the bugs the fuzz targets (tests/fuzz) found.
+ * - The annotation round trip on every netlist file under tests/ and netlists-demo/: for each file
+ *   that loads, strip(annotate(x)) == strip(x) (== x when x has no annotation lines) byte for byte,
+ *   and annotating the annotated file again gives the same bytes. The operating points fed to the
+ *   annotation are arbitrary numbers (varied so that findings appear): the property checked is
+ *   byte-exactness, which holds whatever the numbers.
+ * - Limits: include depth, subcircuit nesting, expression height and the device count are
+ *   settable, give located errors, and the device count is refused before expansion, in bounded time.
+ * - Dump values: NaN, infinity, overflow and denormals, against the C library's strtod (C11 7.22.1.3;
+ *   glibc rounds correctly) as the reference for the number conversion.
+ * - Fuzz regressions: NUL bytes in quantity names and device names (show, raw, CSV). */
+#include "testutil.h"
+
+#include <dirent.h>
+#include <errno.h>
+#include <sys/stat.h>
+#include <time.h>
+
+#include "annotate.h"
+#include "check.h"
+#include "expr.h"
+#include "join.h"
+#include "netlist.h"
+#include "opdump.h"
+#include "rules.h"
+
+/* ---- helpers --------------------------------------------------------------------------------- */
+
+static const Diag *first_error(const DiagList *d)
+{
+    for (size_t i = 0; i < d->n; i++)
+        if (d->items[i].sev == DIAG_ERROR)
+            return &d->items[i];
+    return NULL;
+}
+
+/* The first error is at file (suffix) line:col and says msg. col 0: any column. */
+static void assert_error_at(const DiagList *d, const char *file, unsigned line, unsigned col, const char *msg)
+{
+    const Diag *g = first_error(d);
+    if (!g) {
+        print_error("no error; expected %s:%u:%u %s\n", file, line, col, msg);
+        fail();
+    }
+    size_t fl = strlen(file), gl = g->loc.file ? strlen(g->loc.file) : 0;
+    if (gl < fl || strcmp(g->loc.file + gl - fl, file) != 0 || g->loc.line != line || (col && g->loc.col != col) ||
+        !strstr(g->msg, msg)) {
+        print_error("got %s:%u:%u: %s\nexpected %s:%u:%u: ...%s...\n", g->loc.file ? g->loc.file : "(none)", g->loc.line,
+                    g->loc.col, g->msg, file, line, col, msg);
+        fail();
+    }
+}
+
+static char *read_all(const char *path, size_t *len)
+{
+    FILE *fp = fopen(path, "rb");
+    if (!fp)
+        return NULL;
+    Buf b = BUF_INIT;
+    char chunk[65536];
+    size_t n;
+    while ((n = fread(chunk, 1, sizeof chunk, fp)) > 0)
+        if (buf_append(&b, chunk, n) != ERR_OK)
+            break;
+    fclose(fp);
+    *len = b.len;
+    return b.data ? b.data : calloc(1, 1);
+}
+
+static int write_all(const char *path, const char *p, size_t n)
+{
+    FILE *fp = fopen(path, "wb");
+    if (!fp)
+        return -1;
+    int bad = n && fwrite(p, 1, n, fp) != n;
+    return fclose(fp) != 0 || bad ? -1 : 0;
+}
+
+/* ---- the annotation round trip on every netlist ----------------------------------------------- */
+
+static char mirror_root[64];
+static char **netlists;
+static size_t nnetlists, capnetlists;
+
+static int has_ext(const char *p, const char *ext)
+{
+    size_t n = strlen(p), e = strlen(ext);
+    return n > e && strcmp(p + n - e, ext) == 0;
+}
+
+/* Copy the tree at src into dst (made here), regular files up to 4 MB, and list its netlists, so
+ * that an annotated copy finds its includes where the original does. */
+static void mirror(const char *src, const char *dst)
+{
+    assert_true(mkdir(dst, 0777) == 0 || errno == EEXIST);
+    DIR *dir = opendir(src);
+    assert_non_null(dir);
+    struct dirent *e;
+    while ((e = readdir(dir))) {
+        if (e->d_name[0] == '.')
+            continue; /* ., .., hidden files */
+        char sp[1024], dp[1024];
+        snprintf(sp, sizeof sp, "%s/%s", src, e->d_name);
+        snprintf(dp, sizeof dp, "%s/%s", dst, e->d_name);
+        struct stat st;
+        if (lstat(sp, &st) != 0)
+            continue;
+        if (S_ISDIR(st.st_mode)) {
+            mirror(sp, dp);
+            continue;
+        }
+        if (!S_ISREG(st.st_mode) || st.st_size > 4 * 1024 * 1024)
+            continue;
+        size_t n;
+        char *text = read_all(sp, &n);
+        assert_non_null(text);
+        assert_int_equal(write_all(dp, text, n), 0);
+        free(text);
+        if (has_ext(sp, ".cir") || has_ext(sp, ".sp") || has_ext(sp, ".inc") || has_ext(sp, ".lib"))
+            assert_int_equal(BUF_PUSH(netlists, nnetlists, capnetlists, strdup(sp)), ERR_OK);
+    }
+    closedir(dir);
+}
+
+/* An op table with one record per device of ds, in memory (as op_read builds one from a file). */
+static OpTable *synthetic_table(const Design *ds, DiagList *d)
+{
+    OpTable *t = calloc(1, sizeof *t);
+    assert_non_null(t);
+    arena_init(&t->arena);
+    t->temp_c = NAN;
+    t->file.path = strdup("synthetic.csv");
+    t->file.text = strdup("");
+    t->names = str_new(&t->arena);
+    assert_non_null(t->names);
+    for (size_t i = 0; i < ds->ndevs; i++) {
+        const char *nm = ds->devs[i].simname ? ds->devs[i].simname : ds->devs[i].name; /* record name */
+        OpRecord *r = op_add(t, nm, strlen(nm), (SrcLoc){t->file.path, (uint32_t)i + 2, 1}, true, d);
+        assert_non_null(r);
+        /* varied so that every region and some findings appear in the annotation */
+        double q[][2] = {{OPQ_ID, i % 5 == 4 ? 1e-14 : 1e-5 * (double)(1 + i % 3)},
+                         {OPQ_GM, 2e-4},
+                         {OPQ_GDS, i % 7 == 3 ? 1e-4 : 1e-6},
+                         {OPQ_VGS, 0.6},
+                         {OPQ_VDS, i % 3 == 1 ? 0.05 : 0.9},
+                         {OPQ_VBS, 0},
+                         {OPQ_VTH, 0.4},
+                         {OPQ_VDSAT, 0.15},
+                         {OPQ_CGG, 1e-14}};
+        for (size_t k = 0; k < sizeof q / sizeof q[0]; k++)
+            assert_int_equal(op_set(r, (OpQty)q[k][0], q[k][1], r->loc, d), ERR_OK);
+    }
+    return t;
+}
+
+/* Annotate the netlist at path (loaded with nl_load) into out. ERR_OK, or the load's status. */
+static int annotate_file(const char *path, const RuleSet *rs, Buf *out, Buf *orig)
+{
+    Design ds;
+    DiagList d;
+    diag_init(&d);
+    int rc = nl_load(path, NULL, &ds, &d);
+    if (rc != ERR_OK) {
+        diag_free(&d);
+        return rc;
+    }
+    const SrcFile *top = ds.files.files[0];
+    if (orig)
+        assert_int_equal(buf_append(orig, top->text, top->len), ERR_OK);
+    OpTable *t = synthetic_table(&ds, &d);
+    Joined jn;
+    Findings fs;
+    memset(&jn, 0, sizeof jn);
+    memset(&fs, 0, sizeof fs);
+    JoinOptions jo = {0, 0.5};
+    if (ds.ndevs) {
+        assert_int_equal(join_run(&ds, t, rs, &jo, &jn, &d), ERR_OK);
+        assert_int_equal(chk_run(rs, &ds, &jn, &fs), ERR_OK);
+    }
+    assert_int_equal(ann_render(&ds, &jn, &fs, out), ERR_OK);
+    chk_free(&fs);
+    join_free(&jn);
+    op_free(t);
+    nl_free(&ds);
+    diag_free(&d);
+    return ERR_OK;
+}
+
+static int has_mark(const char *p, size_t n)
+{
+    for (size_t i = 0; i + 1 < n; i++)
+        if (p[i] == ANN_MARK[0] && p[i + 1] == ANN_MARK[1])
+            return 1;
+    return 0;
+}
+
+static int same(const Buf *a, const Buf *b)
+{
+    return a->len == b->len && (a->len == 0 || memcmp(a->data, b->data, a->len) == 0);
+}
+
+static void test_round_trip_every_netlist(void **state)
+{
+    (void)state;
+    snprintf(mirror_root, sizeof mirror_root, "/tmp/biaslint-mirror-XXXXXX");
+    assert_non_null(mkdtemp(mirror_root));
+    /* tests/ is the working folder; the paths are kept as the reader is given them */
+    char dst[128];
+    snprintf(dst, sizeof dst, "%s/tests", mirror_root);
+    mirror(".", dst);
+    snprintf(dst, sizeof dst, "%s/netlists-demo", mirror_root);
+    mirror("../netlists-demo", dst);
+    assert_true(nnetlists >= 30);
+
+    DiagList d;
+    diag_init(&d);
+    RuleSet *rs = rule_new_defaults(&d);
+    assert_non_null(rs);
+    size_t loaded = 0, with_devices = 0;
+    int bad = 0;
+    for (size_t i = 0; i < nnetlists; i++) {
+        const char *path = netlists[i];
+        Buf ann = BUF_INIT, orig = BUF_INIT, s1 = BUF_INIT, s2 = BUF_INIT, ann2 = BUF_INIT;
+        if (annotate_file(path, rs, &ann, &orig) != ERR_OK)
+            goto next; /* an error fixture: its errors are tested elsewhere */
+        loaded++;
+        if (ann.len != orig.len)
+            with_devices++;
+        assert_int_equal(ann_strip(orig.data ? orig.data : "", orig.len, &s1), ERR_OK);
+        assert_int_equal(ann_strip(ann.data ? ann.data : "", ann.len, &s2), ERR_OK);
+        if (!same(&s1, &s2)) {
+            print_error("%s: strip(annotate(x)) != strip(x)\n", path);
+            bad++;
+        }
+        if (!has_mark(orig.data ? orig.data : "", orig.len) && !same(&s2, &orig)) {
+            print_error("%s: strip(annotate(x)) != x\n", path);
+            bad++;
+        }
+        /* the annotated text in the mirror, where the original's includes are, annotated again */
+        char mp[1200]; /* "./x/y.cir" -> <mirror>/tests/./x/y.cir, "../netlists-demo/z" -> <mirror>/tests/../netlists-demo/z */
+        snprintf(mp, sizeof mp, "%s/tests/%s", mirror_root, path);
+        assert_int_equal(write_all(mp, ann.data ? ann.data : "", ann.len), 0);
+        if (annotate_file(mp, rs, &ann2, NULL) != ERR_OK || !same(&ann, &ann2)) {
+            print_error("%s: annotating the annotated file changes it (%zu then %zu bytes)\n", path, ann.len, ann2.len);
+            bad++;
+        }
+    next:
+        buf_free(&ann);
+        buf_free(&orig);
+        buf_free(&s1);
+        buf_free(&s2);
+        buf_free(&ann2);
+        free(netlists[i]);
+    }
+    free(netlists);
+    rule_free(rs);
+    diag_free(&d);
+    print_message("round trip: %zu of %zu netlist files loaded, %zu with MOSFET cards\n", loaded, nnetlists,
+                  with_devices);
+    assert_int_equal(bad, 0);
+    assert_true(loaded >= 25);
+    assert_true(with_devices >= 15);
+    char cmd[128];
+    snprintf(cmd, sizeof cmd, "rm -rf '%s'", mirror_root);
+    assert_int_equal(system(cmd), 0);
+}
+
+/* ---- limits ---------------------------------------------------------------------------------- */
+
+static void test_include_depth_is_settable(void **state)
+{
+    (void)state;
+    char name[32], text[64];
+    char *top = NULL;
+    for (int i = 5; i >= 1; i--) {
+        snprintf(name, sizeof name, "lim_inc%d.inc", i);
+        snprintf(text, sizeof text, i == 5 ? "* last\n" : ".include lim_inc%d.inc\n", i + 1);
+        free(tu_tmpfile(name, text, strlen(text)));
+    }
+    top = TU_TMPFILE("lim_top.cir", "title\n.include lim_inc1.inc\n.end\n");
+    Design ds;
+    DiagList d;
+    diag_init(&d);
+    NlOptions o = {.max_include_depth = 3};
+    assert_int_equal(nl_load(top, &o, &ds, &d), ERR_INPUT);
+    assert_error_at(&d, "lim_inc3.inc", 1, 10, "more than 3 levels");
+    diag_free(&d);
+    diag_init(&d);
+    o.max_include_depth = 5;
+    assert_int_equal(nl_load(top, &o, &ds, &d), ERR_OK); /* five levels pass a limit of five */
+    nl_free(&ds);
+    diag_free(&d);
+    free(top);
+}
+
+static char *nested_netlist(int levels, size_t *len)
+{
+    Buf b = BUF_INIT;
+    assert_int_equal(buf_puts(&b, "title\n.model nch nmos level=14\n.subckt s0 a\nm1 a a 0 0 nch\n.ends\n"), ERR_OK);
+    for (int i = 1; i <= levels; i++)
+        assert_int_equal(buf_printf(&b, ".subckt s%d a\nx1 a s%d\n.ends\n", i, i - 1), ERR_OK);
+    assert_int_equal(buf_printf(&b, "x0 n s%d\n.end\n", levels), ERR_OK);
+    *len = b.len;
+    return b.data;
+}
+
+static void test_subckt_depth_is_settable(void **state)
+{
+    (void)state;
+    size_t n;
+    char *text = nested_netlist(6, &n);
+    char *path = tu_tmpfile("lim_nest.cir", text, n);
+    free(text);
+    Design ds;
+    DiagList d;
+    diag_init(&d);
+    NlOptions o = {.max_subckt_depth = 4};
+    assert_int_equal(nl_load(path, &o, &ds, &d), ERR_INPUT);
+    const Diag *g = first_error(&d);
+    assert_non_null(g);
+    assert_true(g->loc.line > 0);
+    assert_non_null(strstr(g->msg, "nested more than 4 levels"));
+    diag_free(&d);
+    diag_init(&d);
+    o.max_subckt_depth = 7; /* x0 plus six levels below */
+    assert_int_equal(nl_load(path, &o, &ds, &d), ERR_OK);
+    assert_int_equal(ds.ndevs, 1);
+    /* s0 holds one M card: a primitive cell, named by its X card, its record the M card's */
+    assert_string_equal(ds.devs[0].name, "x0.x1.x1.x1.x1.x1.x1");
+    assert_string_equal(ds.devs[0].simname, "x0.x1.x1.x1.x1.x1.x1.m1");
+    nl_free(&ds);
+    diag_free(&d);
+    free(path);
+}
+
+static void test_expression_height_is_settable(void **state)
+{
+    (void)state;
+    Arena a;
+    arena_init(&a);
+    StrTab *t = str_new(&a);
+    ExprParser p;
+    memset(&p, 0, sizeof p);
+    p.arena = &a;
+    p.names = t;
+    p.max_height = 10;
+    char s[64] = "";
+    for (int i = 0; i < 12; i++)
+        strcat(s, "(");
+    strcat(s, "1");
+    for (int i = 0; i < 12; i++)
+        strcat(s, ")");
+    assert_null(expr_parse_str(&p, s, strlen(s)));
+    assert_non_null(strstr(p.err, "nested too deeply"));
+    assert_true(p.err_off < strlen(s));
+    p.max_height = 20;
+    assert_non_null(expr_parse_str(&p, s, strlen(s)));
+    /* the default limit holds against a very deep expression without exhausting the C stack */
+    p.max_height = 0;
+    size_t n = 1000000;
+    char *deep = malloc(2 * n + 2);
+    memset(deep, '(', n);
+    deep[n] = '1';
+    memset(deep + n + 1, ')', n);
+    deep[2 * n + 1] = '\0';
+    assert_null(expr_parse_str(&p, deep, 2 * n + 1));
+    assert_non_null(strstr(p.err, "nested too deeply"));
+    free(deep);
+    /* and so does a long chain of operators */
+    char *chain = malloc(2 * n + 1);
+    for (size_t i = 0; i < n; i++) {
+        chain[2 * i] = 'a';
+        chain[2 * i + 1] = '^';
+    }
+    chain[2 * n - 1] = 'b';
+    chain[2 * n] = '\0';
+    Expr *e = expr_parse_str(&p, chain, 2 * n);
+    (void)e; /* parsed (left to right, no recursion) or refused; either way no crash */
+    free(chain);
+    str_free(t);
+    arena_free(&a);
+}
+
+static double seconds_now(void)
+{
+    struct timespec ts;
+    clock_gettime(CLOCK_MONOTONIC, &ts);
+    return (double)ts.tv_sec + (double)ts.tv_nsec * 1e-9;
+}
+
+/* levels of fanout instances each: fanout^levels MOSFETs */
+static char *fanout_netlist(int levels, int fanout, size_t *len)
+{
+    Buf b = BUF_INIT;
+    assert_int_equal(buf_puts(&b, "title\n.model nch nmos level=14\n.subckt l0 a\nm1 a a 0 0 nch\n.ends\n"), ERR_OK);
+    for (int i = 1; i <= levels; i++) {
+        assert_int_equal(buf_printf(&b, ".subckt l%d a\n", i), ERR_OK);
+        for (int j = 1; j <= fanout; j++)
+            assert_int_equal(buf_printf(&b, "x%d a l%d\n", j, i - 1), ERR_OK);
+        assert_int_equal(buf_puts(&b, ".ends\n"), ERR_OK);
+    }
+    assert_int_equal(buf_printf(&b, "xtop n l%d\n.end\n", levels), ERR_OK);
+    *len = b.len;
+    return b.data;
+}
+
+static void test_device_limit_before_expanding(void **state)
+{
+    (void)state;
+    size_t n;
+    /* 10 levels of 10: 10^10 MOSFETs, refused at once (expanding would take terabytes) */
+    char *text = fanout_netlist(10, 10, &n);
+    char *path = tu_tmpfile("lim_huge.cir", text, n);
+    free(text);
+    Design ds;
+    DiagList d;
+    diag_init(&d);
+    double t0 = seconds_now();
+    assert_int_equal(nl_load(path, NULL, &ds, &d), ERR_INPUT);
+    assert_true(seconds_now() - t0 < 1.0);
+    assert_error_at(&d, "lim_huge.cir", 126, 1, "10000000000 MOSFETs once flattened, more than the limit of 50000000");
+    assert_int_equal(ds.ndevs, 0);
+    diag_free(&d);
+    /* 60 levels of 10 saturate the count instead of overflowing it */
+    text = fanout_netlist(60, 10, &n);
+    char *path2 = tu_tmpfile("lim_sat.cir", text, n);
+    free(text);
+    diag_init(&d);
+    assert_int_equal(nl_load(path2, NULL, &ds, &d), ERR_INPUT);
+    assert_non_null(first_error(&d));
+    assert_non_null(strstr(first_error(&d)->msg, "over "));
+    diag_free(&d);
+    /* the limit is exact: 3 levels of 4 = 64 pass a limit of 64 and fail one of 63 */
+    text = fanout_netlist(3, 4, &n);
+    char *path3 = tu_tmpfile("lim_64.cir", text, n);
+    free(text);
+    diag_init(&d);
+    NlOptions o = {.max_devices = 64};
+    assert_int_equal(nl_load(path3, &o, &ds, &d), ERR_OK);
+    assert_int_equal(ds.ndevs, 64);
+    nl_free(&ds);
+    diag_free(&d);
+    diag_init(&d);
+    o.max_devices = 63;
+    assert_int_equal(nl_load(path3, &o, &ds, &d), ERR_INPUT);
+    assert_error_at(&d, "lim_64.cir", 24, 1, "64 MOSFETs once flattened, more than the limit of 63");
+    diag_free(&d);
+    free(path);
+    free(path2);
+    free(path3);
+}
+
+/* ---- numbers in dumps ------------------------------------------------------------------------ */
+
+static void test_numbers_against_strtod(void **state)
+{
+    (void)state;
+    static const char *const rows[] = {
+        "4.9e-324", "4.94065645841246544e-324", "2.4703282292062328e-324", "2.2250738585072011e-308",
+        "2.2250738585072014e-308", "1.7976931348623157e308", "1e-400", "-0", "0e999999999",
+        "123456789012345678901234567890", "0.000000000000000000000000000001", "9007199254740993",
+        "1e22", "1e23", "-1.5e-310", "1e-5",
+    };
+    for (size_t i = 0; i < sizeof rows / sizeof rows[0]; i++) {
+        double v = -1, want = strtod(rows[i], NULL);
+        assert_int_equal(op_parse_number(rows[i], strlen(rows[i]), &v), OPNUM_OK);
+        if (memcmp(&v, &want, sizeof v) != 0) {
+            print_error("'%s': %.17g, strtod gives %.17g\n", rows[i], v, want);
+            fail();
+        }
+    }
+    static const struct {
+        const char *s;
+        int st;
+    } bad[] = {
+        {"nan", OPNUM_NONFINITE}, {"-nan", OPNUM_NONFINITE}, {"Inf", OPNUM_NONFINITE}, {"-infinity", OPNUM_NONFINITE},
+        {"1e309", OPNUM_RANGE},   {"-1e999", OPNUM_RANGE},   {"1.8e308", OPNUM_RANGE}, {"0x10", OPNUM_SYNTAX},
+        {" 1", OPNUM_SYNTAX},     {"1e", OPNUM_SYNTAX},      {"", OPNUM_SYNTAX},       {"1.2.3", OPNUM_SYNTAX},
+    };
+    for (size_t i = 0; i < sizeof bad / sizeof bad[0]; i++) {
+        double v = 0;
+        assert_int_equal(op_parse_number(bad[i].s, strlen(bad[i].s), &v), bad[i].st);
+    }
+    /* a number of a million digits converts in bounded time */
+    size_t n = 1000000;
+    char *s = malloc(n + 8);
+    s[0] = '0';
+    s[1] = '.';
+    memset(s + 2, '0', n);
+    memcpy(s + 2 + n, "1e5", 4);
+    double v = 0, t0 = seconds_now();
+    assert_int_equal(op_parse_number(s, strlen(s), &v), OPNUM_OK);
+    assert_true(seconds_now() - t0 < 1.0);
+    assert_true(v == strtod(s, NULL));
+    free(s);
+}
+
+/* Fuzz regression (fuzz_show, fuzz_csv): a quantity name with a NUL byte made the name comparison
+ * read past the end of the shorter name (an ASan global-buffer-overflow in opdump.c same_n). */
+static void test_quantity_name_with_nul(void **state)
+{
+    (void)state;
+    assert_int_equal(op_qty_lookup("gm\0\0\0\0", 6), -1);
+    assert_int_equal(op_qty_lookup("id\0x", 4), -1);
+    assert_int_equal(op_qty_lookup_ngspice("vth\0\0\0", 6), -1);
+    assert_int_equal(op_qty_lookup("gm", 2), OPQ_GM);
+    assert_int_equal(op_qty_lookup("length", 6), OPQ_L);
+}
+
+/* Dumps read through op_read: NUL bytes in device names (fuzz regressions: the name was kept with
+ * the NUL, so the record could not be found or printed), and non-finite and extreme values. */
+typedef struct {
+    const char *name;
+    OpFormat fmt;
+    const char *bytes;
+    size_t len;
+    int status;       /* op_read's */
+    unsigned line, col;
+    const char *msg;  /* in the first error (status != OK) or the first warning */
+} DumpRow;
+
+#define BYTES(lit) lit, sizeof(lit) - 1
+
+static const char raw_head[] = "Title: t\nDate: d\nPlotname: Operating Point\nFlags: real\nNo. Variables: 3\n"
+                               "No. Points: 1\nVariables:\n";
+
+static const DumpRow dump_rows[] = {
+    {"show: NUL in a device name", OPFMT_SHOW,
+     BYTES(" BSIM4: Berkeley Short Channel IGFET Model-4\n     device               m.x1\0m1\n"
+           "      model                   nch\n         id           3.27829e-05\n\n"),
+     ERR_INPUT, 2, 27, "NUL byte in this device name"},
+    {"csv: NUL in a device name", OPFMT_CSV, BYTES("name,id,gm\nx1.m1,1e-5,2e-4\nx1\0m2,1e-5,2e-4\n"), ERR_INPUT, 3, 1,
+     "NUL byte in this device name"},
+    {"csv: infinity", OPFMT_CSV, BYTES("name,id,gm\nx1.m1,1e-5,-Inf\n"), ERR_INPUT, 2, 12, "not a finite number"},
+    {"csv: overflow", OPFMT_CSV, BYTES("name,id,gm\nx1.m1,1e-5,2e400\n"), ERR_INPUT, 2, 12, "out of range"},
+    {"csv: duplicate device", OPFMT_CSV, BYTES("name,id\nm1,1\nm2,2\nM1,3\n"), ERR_INPUT, 4, 1,
+     "listed twice (first on line 2)"},
+    {"show: NaN is read as absent", OPFMT_SHOW,
+     BYTES(" BSIM4: Berkeley Short Channel IGFET Model-4\n     device               m.x1.m1\n"
+           "         id                  -nan\n         gm           0.000522462\n\n"),
+     ERR_OK, 3, 30, "NaN or infinity, read as absent"},
+};
+
+static void test_dump_rows(void **state)
+{
+    (void)state;
+    int bad = 0;
+    for (size_t i = 0; i < sizeof dump_rows / sizeof dump_rows[0]; i++) {
+        const DumpRow *r = &dump_rows[i];
+        char name[32];
+        snprintf(name, sizeof name, "dump%zu", i);
+        char *path = tu_tmpfile(name, r->bytes, r->len);
+        DiagList d;
+        diag_init(&d);
+        OpTable *t = NULL;
+        int rc = op_read(path, r->fmt, &t, &d);
+        const Diag *g = NULL;
+        for (size_t k = 0; k < d.n && !g; k++)
+            if (d.items[k].sev == (r->status == ERR_OK ? DIAG_WARNING : DIAG_ERROR))
+                g = &d.items[k];
+        if (rc != r->status || (rc == ERR_OK) != (t != NULL) || !g || g->loc.line != r->line ||
+            g->loc.col != r->col || !strstr(g->msg, r->msg)) {
+            print_error("%s: status %d (want %d); first diagnostic %u:%u %s (want %u:%u %s)\n", r->name, rc, r->status,
+                        g ? g->loc.line : 0, g ? g->loc.col : 0, g ? g->msg : "(none)", r->line, r->col, r->msg);
+            bad++;
+        }
+        if (t) {
+            const OpRecord *rec = op_find(t, "x1.m1");
+            if (!rec || !isnan(rec->q[OPQ_ID]) || rec->q[OPQ_GM] != 0.000522462) {
+                print_error("%s: the NaN id should be absent and gm kept\n", r->name);
+                bad++;
+            }
+        }
+        op_free(t);
+        diag_free(&d);
+        free(path);
+    }
+    assert_int_equal(bad, 0);
+}
+
+/* Binary raw file: NaN and infinity are absent (with one warning), a denormal is kept exactly. The
+ * doubles are little-endian IEEE 754, as ngspice writes them on this machine. */
+static void test_raw_binary_extremes(void **state)
+{
+    (void)state;
+    Buf b = BUF_INIT;
+    assert_int_equal(buf_puts(&b, raw_head), ERR_OK);
+    assert_int_equal(buf_puts(&b, "\t0\t@m1[id]\tcurrent\n\t1\t@m1[gm]\tadmittance\n\t2\t@m1[gds]\tadmittance\n"
+                                  "Binary:\n"), ERR_OK);
+    double v[3] = {NAN, INFINITY, 4.9406564584124654e-324};
+    assert_int_equal(buf_append(&b, v, sizeof v), ERR_OK);
+    char *path = tu_tmpfile("extremes.raw", b.data, b.len);
+    DiagList d;
+    diag_init(&d);
+    OpTable *t = NULL;
+    assert_int_equal(op_read(path, OPFMT_AUTO, &t, &d), ERR_OK);
+    assert_int_equal(d.nwarnings, 1);
+    const OpRecord *r = op_find(t, "m1");
+    assert_non_null(r);
+    assert_true(isnan(r->q[OPQ_ID]));
+    assert_true(isnan(r->q[OPQ_GM]));
+    assert_true(r->q[OPQ_GDS] == 4.9406564584124654e-324);
+    op_free(t);
+    diag_free(&d);
+    /* a header that claims more data than a 64-bit size can hold is an error, not a wrap-around */
+    buf_clear(&b);
+    assert_int_equal(buf_puts(&b, "Title: t\nDate: d\nPlotname: Operating Point\nFlags: real\n"
+                                  "No. Variables: 3\nNo. Points: 768614336404564651\nVariables:\n"
+                                  "\t0\t@m1[id]\tcurrent\n\t1\t@m1[gm]\tadmittance\n\t2\t@m1[gds]\tadmittance\n"
+                                  "Binary:\n"), ERR_OK);
+    assert_int_equal(buf_append(&b, v, sizeof v), ERR_OK);
+    char *path2 = tu_tmpfile("wrap.raw", b.data, b.len);
+    diag_init(&d);
+    assert_int_equal(op_read(path2, OPFMT_AUTO, &t, &d), ERR_INPUT);
+    assert_null(t);
+    assert_non_null(first_error(&d));
+    assert_true(first_error(&d)->loc.line > 0);
+    diag_free(&d);
+    buf_free(&b);
+    free(path);
+    free(path2);
+}
+
+/* A raw file with a NUL byte in a vector name (fuzz regression, fuzz_raw). */
+static void test_raw_nul_in_name(void **state)
+{
+    (void)state;
+    Buf b = BUF_INIT;
+    assert_int_equal(buf_puts(&b, raw_head), ERR_OK);
+    static const char vars[] = "\t0\t@m1[id]\tcurrent\n\t1\t@m\0x[gm]\tadmittance\n\t2\tv(d)\tvoltage\nValues:\n"
+                               " 0\t1e-5\n\t2e-4\n\t0.9\n";
+    assert_int_equal(buf_append(&b, vars, sizeof vars - 1), ERR_OK);
+    char *path = tu_tmpfile("nul.raw", b.data, b.len);
+    DiagList d;
+    diag_init(&d);
+    OpTable *t = NULL;
+    assert_int_equal(op_read(path, OPFMT_AUTO, &t, &d), ERR_INPUT);
+    assert_error_at(&d, "nul.raw", 9, 4, "variable 1: a NUL byte in its name");
+    diag_free(&d);
+    buf_free(&b);
+    free(path);
+}
+
+int main(void)
+{
+    const struct CMUnitTest tests[] = {
+        cmocka_unit_test(test_round_trip_every_netlist),
+        cmocka_unit_test(test_include_depth_is_settable),
+        cmocka_unit_test(test_subckt_depth_is_settable),
+        cmocka_unit_test(test_expression_height_is_settable),
+        cmocka_unit_test(test_device_limit_before_expanding),
+        cmocka_unit_test(test_numbers_against_strtod),
+        cmocka_unit_test(test_quantity_name_with_nul),
+        cmocka_unit_test(test_dump_rows),
+        cmocka_unit_test(test_raw_binary_extremes),
+        cmocka_unit_test(test_raw_nul_in_name),
+    };
+    return cmocka_run_group_tests(tests, NULL, NULL);
+}
