@@ -7,6 +7,7 @@
 
 #include "buf.h"
 #include "opdump.h"
+#include "primitive.h"
 #include "rules.h"
 
 typedef enum { CMD_NONE = 0, CMD_CHECK, CMD_STRIP } Command;
@@ -30,6 +31,12 @@ typedef struct {
     size_t max_devices;        /* --max-devices, 0 for the default */
     ColorMode color;           /* --color */
     int quiet;                 /* -q: errors only on stderr */
+    /* PDK netlists (README, "PDK netlists") */
+    const char *top;           /* --top CELL: check this subcircuit of the netlist */
+    const char *prefix;        /* --prefix PATH: its instance path in the simulated testbench */
+    PrimSpec *cells;           /* --primitive / --not-primitive, in order; malloc'd */
+    size_t ncells, cells_cap;
+    int allow_missing_lib;     /* --allow-missing-lib */
 } Options;
 
 /* Results of cli_parse besides ERR_OK. */

@@ -34,6 +34,13 @@ static const char usage_check[] =
     "  --fail-on LEVEL     exit 1 when a finding is at or above LEVEL: error (default) | warning | info\n"
     "  --add-overlap       add the model cards' overlap capacitance to Cgg when computing fT\n"
     "  --max-devices N     stop before flattening a netlist with more than N MOSFETs\n"
+    "  --top CELL          check subcircuit CELL (a netlist of subcircuits only, e.g. extracted)\n"
+    "  --prefix PATH       CELL's instance path in the simulated testbench, e.g. xtop.x1 (default:\n"
+    "                      found in the dump's device names)\n"
+    "  --primitive CELL[=nmos|pmos]  treat CELL (* and ? match) as a transistor primitive: one\n"
+    "                      device per X card (cells of one M card plus R, C, D are found unasked)\n"
+    "  --not-primitive CELL  expand CELL as an ordinary subcircuit\n"
+    "  --allow-missing-lib go on when a .include/.lib file is missing; its cells are read from the X cards\n"
     "  --color WHEN        auto (default) | always | never; NO_COLOR is honoured\n"
     "  -q, --quiet         print only errors on standard error\n"
     "\n"
@@ -122,6 +129,10 @@ static int parse_check(int argc, char **argv, int i, Options *o, Buf *msg)
             o->quiet = 1;
             continue;
         }
+        if (strcmp(a, "--allow-missing-lib") == 0 && o->cmd == CMD_CHECK) {
+            o->allow_missing_lib = 1;
+            continue;
+        }
         if (strcmp(a, "--add-overlap") == 0) {
             o->add_overlap = 1;
             continue;
@@ -181,6 +192,23 @@ static int parse_check(int argc, char **argv, int i, Options *o, Buf *msg)
             if (!cli_number(v, &n) || n < 1 || n > 4e9)
                 return usage_error(msg, "--max-devices needs a whole number, not '%s'", v);
             o->max_devices = (size_t)n;
+        } else if (opt_is(a, "--top", &eq)) {
+            VALUE_OR_FAIL();
+            if (!*v)
+                return usage_error(msg, "--top needs a subcircuit name%s", "");
+            o->top = v;
+        } else if (opt_is(a, "--prefix", &eq)) {
+            VALUE_OR_FAIL();
+            o->prefix = v;
+        } else if (opt_is(a, "--primitive", &eq) || opt_is(a, "--not-primitive", &eq)) {
+            int excl = a[2] == 'n';
+            VALUE_OR_FAIL();
+            PrimSpec sp;
+            if (!prim_parse_spec(v, excl ? PRIM_EXCLUDE : PRIM_DECLARE, &sp))
+                return usage_error(msg, excl ? "--not-primitive needs a cell name, not '%s'"
+                                             : "--primitive needs CELL or CELL=nmos or CELL=pmos, not '%s'", v);
+            if (BUF_PUSH(o->cells, o->ncells, o->cells_cap, sp) != ERR_OK)
+                return ERR_NOMEM;
         } else if (opt_is(a, "--color", &eq)) {
             VALUE_OR_FAIL();
             if (strcmp(v, "auto") == 0)
@@ -235,4 +263,7 @@ void cli_free(Options *o)
     free(o->rules);
     o->rules = NULL;
     o->nrules = 0;
+    free(o->cells);
+    o->cells = NULL;
+    o->ncells = 0;
 }

@@ -11,6 +11,7 @@
 #include "check.h"
 #include "join.h"
 #include "netlist.h"
+#include "opbind.h"
 #include "opdump.h"
 #include "outfile.h"
 #include "report.h"
@@ -76,7 +77,8 @@ int run_check(const Options *o, FILE *out, int color, DiagList *d)
         rule_set_limit(rs, CHECK_GAIN, o->min_gain);
 
     NlOptions nlo = {o->max_devices, 0, 0};
-    if ((rc = nl_load(o->netlist, &nlo, &ds, d)) != ERR_OK) {
+    NlPdkOptions pdk = {o->top, o->cells, o->ncells, o->allow_missing_lib}; /* PDK netlists */
+    if ((rc = nl_load_pdk(o->netlist, &nlo, &pdk, &ds, d)) != ERR_OK) {
         status = exit_for(rc);
         goto done;
     }
@@ -88,6 +90,13 @@ int run_check(const Options *o, FILE *out, int color, DiagList *d)
         goto done;
     }
     if ((rc = op_read(o->op, o->op_format, &op, d)) != ERR_OK) {
+        status = exit_for(rc);
+        goto done;
+    }
+    /* PDK netlists: record names under the testbench prefix, transistors read from their X cards
+       (opbind.h) */
+    BindOptions bo = {o->prefix, o->top != NULL};
+    if ((rc = bind_run(&ds, op, &bo, NULL, d)) != ERR_OK) {
         status = exit_for(rc);
         goto done;
     }
