@@ -78,6 +78,36 @@ expect_bad "CSV with a non-numeric field" pair.cir nonnum.csv 'nonnum.csv:2:[0-9
 printf 'title\n.model nch nmos level=14 version=4.8\nm1 a b 0 0 nch\nm2 a b 0 0 nch\nm3 a b 0 0 nch\n.end\n' >other.cir
 expect_bad "a dump from another netlist" other.cir pair.log 'pair.log(:[0-9]+)?:.*another netlist'
 
+# ---- a PDK-style design (tests/circuits-pdk, invented lp18 process): the subcircuit-only export
+# checked with --top against its testbench's dump; rows and annotations under the X cards ----
+mkdir pdk && cp -r "$here"/circuits-pdk/. pdk/
+(cd pdk && printf '* tb\n.include tb_ota.spice\n.control\nop\nshow m : w l m nf id gm gds vgs vds vbs vth vdsat cgg\nquit\n.endc\n.end\n' >tb.ctl &&
+    ngspice -b tb.ctl >tb.log 2>tb.err) || bad "ngspice could not simulate circuits-pdk/tb_ota.spice"
+"$bin" check pdk/lp_ota.spice --top lp_ota --op pdk/tb.log --annotate pdk/ota.ann.spice --format json -o pdk/ota.json 2>pdk/run.err
+rc=$?
+[ $rc -le 1 ] && ok || { bad "check --top lp_ota exited $rc"; cat pdk/run.err; }
+names=$(grep -Eo '"name": *"x[^"]*"' pdk/ota.json | sed 's/.*"\(x[^"]*\)"$/\1/' | sort | tr '\n' ' ')
+[ "$names" = "xm1 xm2 xm3 xm4 xm5 xm6 xm7 " ] && ok || bad "rows are not the X instances: '$names'"
+grep -q "the dump holds the design under the instance path 'xtop.x1'" pdk/run.err && ok || bad "prefix xtop.x1 not found"
+grep -q "not checked.*xq1 of cell lp_vnpn" pdk/run.err && ok || bad "the bipolar cell is not listed as unchecked"
+# every annotation line stands right under the X card of its device
+awk '/^XM[0-9]/ { want = "*~ [" tolower($1) "]"; next }
+     /^\*~/ { if (index($0, want) != 1) { print "misplaced: " $0; exit 1 } ; next }
+     { want = "" }' pdk/ota.ann.spice && ok || bad "annotation lines are not under their X cards"
+[ "$(grep -c '^\*~ \[xm' pdk/ota.ann.spice)" -eq 7 ] && ok || bad "expected 7 annotation lines in pdk/ota.ann.spice"
+"$bin" strip pdk/ota.ann.spice -o pdk/ota.stripped.spice && cmp -s pdk/lp_ota.spice pdk/ota.stripped.spice && ok ||
+    bad "strip(annotate(lp_ota.spice)) != lp_ota.spice"
+# the testbench itself, library read: the same devices under their full paths
+"$bin" check pdk/tb_ota.spice --op pdk/tb.log --format json -o pdk/tb.json 2>/dev/null
+grep -q '"name": *"xtop.x1.xm4"' pdk/tb.json && ok || bad "testbench rows lack xtop.x1.xm4"
+# two instances of the cell in a dump: --prefix is needed
+sed 's/^xtop\.x1\./xtop.x2./; s/m\.xtop\.x1\./m.xtop.x2./g' pdk/tb.log >pdk/tb2.log
+cat pdk/tb.log pdk/tb2.log >pdk/both.log
+"$bin" check pdk/lp_ota.spice --top lp_ota --op pdk/both.log >/dev/null 2>pdk/both.err
+[ $? -eq 2 ] && grep -q "several instance paths" pdk/both.err && ok || bad "an ambiguous prefix is not an input error"
+"$bin" check pdk/lp_ota.spice --top lp_ota --prefix xtop.x2 --op pdk/both.log >/dev/null 2>&1
+[ $? -le 1 ] && ok || bad "--prefix xtop.x2 does not settle the ambiguity"
+
 # ---- usage errors ----
 "$bin" check pair.cir 2>/dev/null; [ $? -eq 2 ] && ok || bad "check without --op should exit 2"
 "$bin" frobnicate 2>/dev/null; [ $? -eq 2 ] && ok || bad "unknown command should exit 2"
