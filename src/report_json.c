@@ -1,106 +1,81 @@
-/* report_json: the machine-readable report (schema 1): tool and inputs, one object per device with
- * its sizes, normalized operating point and figures, the findings and a summary. SI units throughout;
- * an absent value is null, never 0; numbers are written with the fewest digits that read back to the
- * same double. One device or finding per line, so the file diffs and greps well. */
+/* report_json: the machine-readable report (schema 2, documented in README): tool and inputs, the
+ * corners, one object per device with its sizes and, per corner, its normalized operating point and
+ * figures, the findings of every corner with the worst corner of their device and check, the
+ * comparison with a baseline, and a summary. SI units throughout; an absent value is null, never 0;
+ * numbers are written with the fewest digits that read back to the same double. One device or
+ * finding per line, so the file diffs and greps well.
+ *
+ * With one corner a device keeps the flat layout of schema 1 (figures beside the name); with
+ * several, its figures sit in a "corners" array, one object per corner. */
 #include "report.h"
 
 #include <math.h>
-#include <stdlib.h>
 #include <string.h>
 
 #include "diag.h"
+#include "numfmt.h"
 
-/* A JSON string: quotes, backslash and control characters escaped; valid UTF-8 passed through;
- * bytes that are not valid UTF-8 become U+FFFD so the output is always valid JSON. */
-static void put_raw(FILE *fp, const char *s)
-{
-    const unsigned char *p = (const unsigned char *)s;
-    while (*p) {
-        unsigned char c = *p;
-        if (c < 0x80) {
-            switch (c) {
-            case '"': fputs("\\\"", fp); break;
-            case '\\': fputs("\\\\", fp); break;
-            case '\n': fputs("\\n", fp); break;
-            case '\r': fputs("\\r", fp); break;
-            case '\t': fputs("\\t", fp); break;
-            case '\b': fputs("\\b", fp); break;
-            case '\f': fputs("\\f", fp); break;
-            default:
-                if (c < 0x20)
-                    fprintf(fp, "\\u%04x", c);
-                else
-                    fputc(c, fp);
-            }
-            p++;
-            continue;
-        }
-        /* length and lowest code point of a sequence led by c */
-        size_t len = c >= 0xc2 && c <= 0xdf ? 2 : c >= 0xe0 && c <= 0xef ? 3 : c >= 0xf0 && c <= 0xf4 ? 4 : 0;
-        int ok = len != 0;
-        for (size_t k = 1; ok && k < len; k++)
-            ok = (p[k] & 0xc0) == 0x80;
-        if (ok && len == 3) {
-            /* no overlong forms, no UTF-16 surrogates */
-            ok = !(c == 0xe0 && p[1] < 0xa0) && !(c == 0xed && p[1] >= 0xa0);
-        } else if (ok && len == 4) {
-            ok = !(c == 0xf0 && p[1] < 0x90) && !(c == 0xf4 && p[1] >= 0x90);
-        }
-        if (ok) {
-            fwrite(p, 1, len, fp);
-            p += len;
-        } else {
-            fputs("\\ufffd", fp);
-            p++;
-        }
-    }
-}
-
-static void put_str(FILE *fp, const char *s)
-{
-    if (!s) {
-        fputs("null", fp);
-        return;
-    }
-    fputc('"', fp);
-    put_raw(fp, s);
-    fputc('"', fp);
-}
-
-/* A number in the fewest significant digits (15..17) that read back exactly; null when absent. */
-static void put_num(FILE *fp, double v)
-{
-    if (!isfinite(v)) {
-        fputs("null", fp);
-        return;
-    }
-    char buf[40];
-    for (int prec = 15; prec <= 17; prec++) {
-        snprintf(buf, sizeof buf, "%.*g", prec, v);
-        if (prec == 17 || strtod(buf, NULL) == v)
-            break;
-    }
-    fputs(buf, fp);
-}
+#define JSON_SCHEMA 2
 
 static void key(FILE *fp, const char *k, int first)
 {
     if (!first)
         fputs(", ", fp);
-    put_str(fp, k);
+    rep_json_str(fp, k);
     fputs(": ", fp);
+}
+
+/* ", \"k\": " and text[0..n) in one write. A report of a million devices makes tens of millions of
+ * these; one stdio call per key and value, instead of one per piece and per character, is most of
+ * the writer's time. Keys are this file's own plain names; anything else goes the escaping way. */
+static void kv_text(FILE *fp, const char *k, const char *text, size_t n)
+{
+    char b[160];
+    size_t kn = strlen(k);
+    int plain = kn + n + 6 <= sizeof b;
+    for (size_t i = 0; plain && i < kn; i++)
+        plain = k[i] >= 0x20 && k[i] < 0x7f && k[i] != '"' && k[i] != '\\';
+    if (!plain) {
+        key(fp, k, 0);
+        fwrite(text, 1, n, fp);
+        return;
+    }
+    memcpy(b, ", \"", 3);
+    memcpy(b + 3, k, kn);
+    memcpy(b + 3 + kn, "\": ", 3);
+    memcpy(b + 6 + kn, text, n);
+    fwrite(b, 1, kn + 6 + n, fp);
 }
 
 static void kv_str(FILE *fp, const char *k, const char *v)
 {
-    key(fp, k, 0);
-    put_str(fp, v);
+    if (!v) {
+        kv_text(fp, k, "null", 4);
+        return;
+    }
+    char b[130];
+    size_t n = 0;
+    b[n++] = '"';
+    for (const char *q = v; *q; q++) { /* a short name that needs no escape, quoted as it is */
+        unsigned char ch = (unsigned char)*q;
+        if (n >= sizeof b - 2 || ch < 0x20 || ch >= 0x80 || ch == '"' || ch == '\\') {
+            key(fp, k, 0);
+            rep_json_str(fp, v);
+            return;
+        }
+        b[n++] = (char)ch;
+    }
+    b[n++] = '"';
+    kv_text(fp, k, b, n);
 }
 
 static void kv_num(FILE *fp, const char *k, double v)
 {
-    key(fp, k, 0);
-    put_num(fp, v);
+    char b[NUMFMT_SIZE];
+    if (!isfinite(v))
+        kv_text(fp, k, "null", 4);
+    else
+        kv_text(fp, k, b, numfmt_json(b, v)); /* as rep_json_num writes it */
 }
 
 static void kv_uint(FILE *fp, const char *k, size_t v)
@@ -109,52 +84,28 @@ static void kv_uint(FILE *fp, const char *k, size_t v)
     fprintf(fp, "%zu", v);
 }
 
+static void kv_line(FILE *fp, const char *k, uint32_t line)
+{
+    char b[12];
+    size_t n = sizeof b;
+    if (!line) {
+        kv_text(fp, k, "null", 4);
+        return;
+    }
+    for (uint32_t x = line; x; x /= 10)
+        b[--n] = (char)('0' + x % 10);
+    kv_text(fp, k, b + n, sizeof b - n);
+}
+
 static void kv_bool(FILE *fp, const char *k, int v)
 {
-    key(fp, k, 0);
-    fputs(v ? "true" : "false", fp);
+    kv_text(fp, k, v ? "true" : "false", v ? 4 : 5);
 }
 
-static const char *type_name(MosType t)
+/* The figures of one row, each key preceded by ", ". */
+static void figures(FILE *fp, const Row *r)
 {
-    return t == MOS_NMOS ? "nmos" : t == MOS_PMOS ? "pmos" : "unknown";
-}
-
-static void card_place(const Design *ds, const Device *dv, const char **file, uint32_t *line)
-{
-    *file = NULL;
-    *line = 0;
-    if (!ds || dv->card >= ds->ncards)
-        return;
-    const Card *c = &ds->cards[dv->card];
-    if (c->file < ds->files.n && ds->files.files[c->file])
-        *file = ds->files.files[c->file]->path;
-    *line = c->line;
-}
-
-static void device(const ReportCtx *c, FILE *fp, const Row *r)
-{
-    const Device *dv = r->dev;
     const Figures *f = &r->fig;
-    const char *file;
-    uint32_t line;
-    card_place(c->design, dv, &file, &line);
-    fputs("    {", fp);
-    key(fp, "name", 1);
-    put_str(fp, dv->name);
-    kv_str(fp, "model", dv->model);
-    kv_str(fp, "type", type_name(dv->type));
-    kv_str(fp, "cell", dv->cell);
-    kv_num(fp, "w", dv->w);
-    kv_num(fp, "l", dv->l);
-    kv_num(fp, "m", dv->m);
-    kv_num(fp, "nf", dv->nf);
-    kv_str(fp, "file", file);
-    key(fp, "line", 0);
-    if (line)
-        fprintf(fp, "%u", line);
-    else
-        fputs("null", fp);
     kv_bool(fp, "has_data", r->op != NULL);
     kv_num(fp, "id", f->id);
     kv_num(fp, "gm", f->gm);
@@ -176,47 +127,120 @@ static void device(const ReportCtx *c, FILE *fp, const Row *r)
     kv_num(fp, "margin", f->margin);
     kv_str(fp, "region", fig_region_name[(unsigned)f->region < REGION_COUNT && r->op ? f->region : 0]);
     kv_bool(fp, "swapped", r->op && f->swapped);
+}
+
+static void device(const ReportCtx *c, FILE *fp, size_t i)
+{
+    const Row *r0 = &c->corners[0].joined->rows[i];
+    const Device *dv = r0->dev;
+    const char *file;
+    uint32_t line;
+    rep_card_place(c->design, dv, &file, &line);
+    fputs("    {", fp);
+    key(fp, "name", 1);
+    rep_json_str(fp, dv->name);
+    kv_str(fp, "model", dv->model);
+    kv_str(fp, "type", rep_type_name(dv->type));
+    kv_str(fp, "cell", dv->cell);
+    kv_num(fp, "w", dv->w);
+    kv_num(fp, "l", dv->l);
+    kv_num(fp, "m", dv->m);
+    kv_num(fp, "nf", dv->nf);
+    kv_str(fp, "file", file);
+    kv_line(fp, "line", line);
+    if (c->ncorners == 1) {
+        figures(fp, r0);
+    } else {
+        fputs(", \"corners\": [", fp);
+        for (size_t k = 0; k < c->ncorners; k++) {
+            fputs(k ? ", {" : "{", fp);
+            key(fp, "corner", 1);
+            rep_json_str(fp, c->corners[k].label);
+            figures(fp, &c->corners[k].joined->rows[i]);
+            fputc('}', fp);
+        }
+        fputc(']', fp);
+    }
     fputc('}', fp);
 }
 
-static void finding(const ReportCtx *c, FILE *fp, const Finding *f)
+static const char *sev_name(Severity s)
 {
-    const Joined *j = c->joined;
+    return rule_severity_name[(unsigned)s < SEV_COUNT ? s : 0];
+}
+
+static void origin(FILE *fp, const char *k, RuleOrigin o);
+
+/* The keys every finding has, new or resolved, after "device". */
+static void finding_core(FILE *fp, const char *check, Severity sev, double value, double limit, const char *msg,
+                         const char *file, uint32_t line, RuleOrigin rule)
+{
+    kv_str(fp, "check", check);
+    kv_str(fp, "severity", sev_name(sev));
+    kv_num(fp, "value", value);
+    kv_num(fp, "limit", limit);
+    kv_str(fp, "message", msg);
+    kv_str(fp, "file", file);
+    kv_line(fp, "line", line);
+    origin(fp, "rule", rule);
+    kv_str(fp, "rule_file", rule.file);
+    kv_line(fp, "rule_line", rule.line);
+}
+
+static void origin(FILE *fp, const char *k, RuleOrigin o)
+{
+    key(fp, k, 0);
+    if (!o.file) {
+        fputs("null", fp);
+        return;
+    }
+    fputc('"', fp);
+    rep_json_raw(fp, o.file);
+    if (o.line)
+        fprintf(fp, ":%u", o.line);
+    fputc('"', fp);
+}
+
+/* The keys of intents, matched groups and waivers (null when they do not apply). */
+static void intent_keys(FILE *fp, const Finding *f)
+{
+    kv_str(fp, "intended", f->intended);
+    kv_num(fp, "want_lo", f->want_lo);
+    kv_num(fp, "want_hi", f->want_hi);
+    kv_str(fp, "direction", f->direction);
+    kv_str(fp, "group", f->group);
+    kv_bool(fp, "waived", f->waived);
+    kv_str(fp, "waiver_reason", f->waived ? f->waiver_reason : NULL);
+    origin(fp, "waiver", f->waived ? f->waiver : (RuleOrigin){NULL, 0});
+}
+
+static void finding(const ReportCtx *c, FILE *fp, const RepGroup *g, RepRef ref)
+{
+    const Joined *j = c->corners[ref.corner].joined;
+    const Finding *f = rep_finding(c, ref);
     fputs("    {", fp);
     key(fp, "device", 1);
-    put_str(fp, f->row < j->n ? j->rows[f->row].dev->name : NULL);
-    kv_str(fp, "check", rule_check_name[(unsigned)f->check < CHECK_COUNT ? f->check : 0]);
-    kv_str(fp, "severity", rule_severity_name[(unsigned)f->sev < SEV_COUNT ? f->sev : 0]);
-    kv_num(fp, "value", f->value);
-    kv_num(fp, "limit", f->limit);
-    kv_str(fp, "message", f->message);
-    kv_str(fp, "file", f->loc.file);
-    key(fp, "line", 0);
-    if (f->loc.line)
-        fprintf(fp, "%u", f->loc.line);
-    else
-        fputs("null", fp);
-    key(fp, "rule", 0);
-    if (!f->rule.file)
-        fputs("null", fp);
-    else {
-        fputc('"', fp);
-        put_raw(fp, f->rule.file);
-        if (f->rule.line)
-            fprintf(fp, ":%u", f->rule.line);
-        fputc('"', fp);
+    rep_json_str(fp, f->row < j->n ? j->rows[f->row].dev->name : NULL);
+    finding_core(fp, rep_check_name((int)f->check), f->sev, f->value, f->limit, f->message, f->loc.file, f->loc.line,
+                 f->rule);
+    intent_keys(fp, f);
+    kv_str(fp, "corner", c->corners[ref.corner].label);
+    kv_str(fp, "worst_corner", c->corners[g->worst.corner].label);
+    kv_uint(fp, "in_corners", g->n);
+    if (c->baseline) {
+        BlStatus st = rep_status(c, ref.corner, ref.index);
+        kv_str(fp, "status", st == BL_NEW ? "new" : "unchanged");
+        int8_t was = c->baseline->was_sev ? c->baseline->was_sev[c->prep->base[ref.corner] + ref.index] : -1;
+        kv_str(fp, "was_severity", was >= 0 ? sev_name((Severity)was) : NULL);
     }
-    kv_str(fp, "rule_file", f->rule.file);
-    key(fp, "rule_line", 0);
-    if (f->rule.line)
-        fprintf(fp, "%u", f->rule.line);
-    else
-        fputs("null", fp);
+    kv_bool(fp, "fails", rep_fails(c, ref.corner, ref.index));
     fputc('}', fp);
 }
 
 static const char *format_word(const OpTable *t)
 {
+    if (!t)
+        return NULL;
     switch (t->format) {
     case OPFMT_SHOW: return "show";
     case OPFMT_RAW: return "raw";
@@ -225,65 +249,160 @@ static const char *format_word(const OpTable *t)
     }
 }
 
-static int write_json(const ReportCtx *c, FILE *fp)
+static size_t without_data(const Joined *j)
 {
-    const Joined *j = c->joined;
-    const Findings *fs = c->findings;
-    fputs("{\n  ", fp);
-    key(fp, "tool", 1);
-    put_str(fp, "biaslint");
-    kv_str(fp, "version", BIASLINT_VERSION);
-    kv_uint(fp, "schema", 1);
-    fputs(",\n  ", fp);
-    key(fp, "netlist", 1);
-    put_str(fp, c->netlist_path);
-    kv_str(fp, "op", c->op_path);
-    kv_str(fp, "op_format", c->op ? format_word(c->op) : NULL);
-    kv_num(fp, "temp_c", c->design ? c->design->temp_c : NAN);
-    fputs(",\n  \"devices\": [", fp);
-    size_t without = 0;
-    for (size_t i = 0; i < j->n; i++) {
-        fputs(i ? ",\n" : "\n", fp);
-        device(c, fp, &j->rows[i]);
-        without += j->rows[i].op == NULL;
-    }
-    fputs(j->n ? "\n  ],\n  \"findings\": [" : "],\n  \"findings\": [", fp);
-    size_t nf = fs ? fs->n : 0;
-    for (size_t i = 0; i < nf; i++) {
-        fputs(i ? ",\n" : "\n", fp);
-        finding(c, fp, &fs->items[i]);
-    }
-    fputs(nf ? "\n  ],\n  \"orphan_records\": [" : "],\n  \"orphan_records\": [", fp);
-    for (size_t i = 0; i < j->norphans; i++) {
-        const OpRecord *r = j->orphans[i];
-        fputs(i ? ",\n    {" : "\n    {", fp);
-        key(fp, "name", 1);
-        put_str(fp, r->name);
-        kv_str(fp, "file", r->loc.file);
-        key(fp, "line", 0);
-        if (r->loc.line)
-            fprintf(fp, "%u", r->loc.line);
-        else
-            fputs("null", fp);
+    size_t n = 0;
+    for (size_t i = 0; i < j->n; i++)
+        n += j->rows[i].op == NULL;
+    return n;
+}
+
+static void corners(const ReportCtx *c, FILE *fp)
+{
+    fputs(",\n  \"corners\": [", fp);
+    for (size_t k = 0; k < c->ncorners; k++) {
+        const RepCorner *rc = &c->corners[k];
+        const Findings *fs = rc->findings;
+        fputs(k ? ",\n    {" : "\n    {", fp);
+        key(fp, "label", 1);
+        rep_json_str(fp, rc->label);
+        kv_str(fp, "op", rc->op_path);
+        kv_str(fp, "op_format", format_word(rc->op));
+        kv_num(fp, "op_temp_c", rc->op ? rc->op->temp_c : NAN);
+        kv_uint(fp, "matched", rc->joined->nmatched);
+        kv_uint(fp, "without_data", without_data(rc->joined));
+        kv_uint(fp, "orphans", rc->joined->norphans);
+        kv_uint(fp, "errors", fs ? fs->count[SEV_ERROR] : 0);
+        kv_uint(fp, "warnings", fs ? fs->count[SEV_WARNING] : 0);
+        kv_uint(fp, "infos", fs ? fs->count[SEV_INFO] : 0);
         fputc('}', fp);
     }
-    fputs(j->norphans ? "\n  ],\n  \"summary\": {" : "],\n  \"summary\": {", fp);
-    size_t count[SEV_COUNT] = {0, 0, 0};
-    if (fs)
-        memcpy(count, fs->count, sizeof count);
+    fputs("\n  ]", fp);
+}
+
+static void baseline(const ReportCtx *c, FILE *fp)
+{
+    const BlCompare *b = c->baseline;
+    const Joined *j = c->corners[0].joined;
+    fputs(",\n  \"baseline\": {", fp);
+    key(fp, "file", 1);
+    rep_json_str(fp, b->path);
+    kv_uint(fp, "new", b->nnew);
+    kv_uint(fp, "new_failing", b->nnew_failing);
+    kv_uint(fp, "unchanged", b->nunchanged);
+    kv_uint(fp, "resolved", b->nresolved);
+    kv_uint(fp, "devices_not_in_baseline", b->ndevices_unmatched);
+    fputs(", \"resolved_findings\": [", fp);
+    for (size_t i = 0; i < b->nresolved; i++) {
+        const BlOldFinding *o = &b->resolved[i];
+        fputs(i ? ",\n    {" : "\n    {", fp);
+        key(fp, "device", 1);
+        rep_json_str(fp, o->device);
+        /* the baseline's rule origin is kept as written there */
+        finding_core(fp, o->check, o->sev, o->value, o->limit, o->message, o->file, o->line, (RuleOrigin){NULL, 0});
+        kv_str(fp, "corner", o->corner);
+        kv_str(fp, "status", "resolved");
+        kv_str(fp, "was_rule", o->rule);
+        fputc('}', fp);
+    }
+    fputs(b->nresolved ? "\n  ], \"region_changes\": [" : "], \"region_changes\": [", fp);
+    for (size_t i = 0; i < b->nregions; i++) {
+        const BlRegionChange *rg = &b->regions[i];
+        const Row *r = rg->row < j->n ? &c->corners[rg->corner].joined->rows[rg->row] : NULL;
+        fputs(i ? ",\n    {" : "\n    {", fp);
+        key(fp, "device", 1);
+        rep_json_str(fp, r ? r->dev->name : NULL);
+        kv_str(fp, "corner", c->corners[rg->corner].label);
+        kv_str(fp, "was", rg->was);
+        kv_str(fp, "now", r ? fig_region_name[(unsigned)r->fig.region < REGION_COUNT && r->op ? r->fig.region : 0]
+                            : NULL);
+        fputc('}', fp);
+    }
+    fputs(b->nregions ? "\n  ]}" : "]}", fp);
+}
+
+static int write_json(const ReportCtx *c, FILE *fp)
+{
+    if (!c->prep || c->ncorners == 0)
+        return ERR_INPUT;
+    const RepPrep *p = c->prep;
+    const Joined *j0 = c->corners[0].joined;
+    fputs("{\n  ", fp);
+    key(fp, "tool", 1);
+    rep_json_str(fp, "biaslint");
+    kv_str(fp, "version", BIASLINT_VERSION);
+    kv_uint(fp, "schema", JSON_SCHEMA);
+    fputs(",\n  ", fp);
+    key(fp, "netlist", 1);
+    rep_json_str(fp, c->netlist_path);
+    kv_str(fp, "op", c->corners[0].op_path);
+    kv_str(fp, "op_format", format_word(c->corners[0].op));
+    kv_num(fp, "temp_c", c->design ? c->design->temp_c : NAN);
+    corners(c, fp);
+    fputs(",\n  \"devices\": [", fp);
+    for (size_t i = 0; i < j0->n; i++) {
+        fputs(i ? ",\n" : "\n", fp);
+        device(c, fp, i);
+    }
+    fputs(j0->n ? "\n  ],\n  \"findings\": [" : "],\n  \"findings\": [", fp);
+    size_t nf = 0;
+    for (size_t gi = 0; gi < p->ngroups; gi++) {
+        const RepGroup *g = &p->groups[gi];
+        for (size_t q = g->first; q < g->first + g->n; q++) {
+            fputs(nf++ ? ",\n" : "\n", fp);
+            finding(c, fp, g, p->refs[q]);
+        }
+    }
+    fputs(nf ? "\n  ],\n  \"orphan_records\": [" : "],\n  \"orphan_records\": [", fp);
+    size_t no = 0, count[SEV_COUNT], matched = 0, without = 0, orphans = 0;
+    rep_counts(c, count);
+    for (size_t k = 0; k < c->ncorners; k++) {
+        const RepCorner *rc = &c->corners[k];
+        for (size_t i = 0; i < rc->joined->norphans; i++) {
+            const OpRecord *r = rc->joined->orphans[i];
+            fputs(no++ ? ",\n    {" : "\n    {", fp);
+            key(fp, "name", 1);
+            rep_json_str(fp, r->name);
+            kv_str(fp, "file", r->loc.file);
+            kv_line(fp, "line", r->loc.line);
+            kv_str(fp, "corner", rc->label);
+            fputc('}', fp);
+        }
+        matched += rc->joined->nmatched;
+        without += without_data(rc->joined);
+        orphans += rc->joined->norphans;
+    }
+    fputs(no ? "\n  ],\n  \"loose_findings\": [" : "],\n  \"loose_findings\": [", fp);
+    size_t nloose;
+    const Finding *loose = rep_loose(c, &nloose);
+    for (size_t i = 0; i < nloose; i++) {
+        const Finding *f = &loose[i];
+        fputs(i ? ",\n    {" : "\n    {", fp);
+        key(fp, "device", 1);
+        fputs("null", fp);
+        finding_core(fp, rep_check_name((int)f->check), f->sev, f->value, f->limit, f->message, f->loc.file,
+                     f->loc.line, f->rule);
+        intent_keys(fp, f);
+        fputc('}', fp);
+    }
+    fputs(nloose ? "\n  ]" : "]", fp);
+    if (c->baseline)
+        baseline(c, fp);
+    fputs(",\n  \"summary\": {", fp);
     Severity fl = (unsigned)c->fail_level < SEV_COUNT ? c->fail_level : SEV_ERROR;
-    size_t failing = 0;
-    for (int s = fl; s < SEV_COUNT; s++)
-        failing += count[s];
+    size_t failing = rep_failing(c);
     key(fp, "devices", 1);
-    fprintf(fp, "%zu", j->n);
+    fprintf(fp, "%zu", j0->n);
+    kv_uint(fp, "corners", c->ncorners);
     kv_uint(fp, "errors", count[SEV_ERROR]);
     kv_uint(fp, "warnings", count[SEV_WARNING]);
     kv_uint(fp, "infos", count[SEV_INFO]);
-    kv_uint(fp, "matched", j->nmatched);
+    kv_uint(fp, "waived", c->prep->nwaived);
+    kv_uint(fp, "matched", matched);
     kv_uint(fp, "without_data", without);
-    kv_uint(fp, "orphans", j->norphans);
-    kv_str(fp, "fail_level", rule_severity_name[fl]);
+    kv_uint(fp, "orphans", orphans);
+    kv_str(fp, "fail_level", c->fail_new ? "new" : rule_severity_name[fl]);
+    kv_uint(fp, "failing", failing);
     kv_bool(fp, "failed", failing > 0);
     fputs("}\n}\n", fp);
     if (fflush(fp) != 0 || ferror(fp))
@@ -291,4 +410,4 @@ static int write_json(const ReportCtx *c, FILE *fp)
     return ERR_OK;
 }
 
-const ReportWriter rep_json_writer = {"json", write_json};
+const ReportWriter rep_json_writer = {"json", "json", write_json};

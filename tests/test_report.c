@@ -1,11 +1,15 @@
-/* test_report: engineering notation, the writer table, the text report against a golden file, the
- * JSON report through a strict validator written here (keys, nulls for absent values, escapes,
- * numbers that read back exactly), write errors, and linear time on many rows. The design, the
- * dump records and the joined rows are built by hand; findings come from chk_run. */
+/* test_report: engineering notation, the writer table, rep_prepare (findings grouped across corners,
+ * the worst corner named), the text report against golden files (one corner and three), the JSON
+ * report (schema 2) through the strict validator of jsoncheck.h (keys, nulls for absent values,
+ * escapes, numbers that read back exactly, the per-corner shape), write errors, unprepared contexts,
+ * and linear time on many rows. The scene (reportscene.h) is built by hand; findings come from
+ * chk_run. */
 #include "testutil.h"
 
 #include "check.h"
+#include "jsoncheck.h"
 #include "report.h"
+#include "reportscene.h"
 
 /* ---- rep_eng ---- */
 
@@ -47,244 +51,195 @@ static void test_eng(void **state)
 static void test_lookup(void **state)
 {
     (void)state;
-    assert_ptr_equal(rep_lookup("text"), &rep_text_writer);
-    assert_ptr_equal(rep_lookup("json"), &rep_json_writer);
+    static const struct {
+        const char *name;
+        const ReportWriter *w;
+    } rows[] = {{"text", &rep_text_writer}, {"json", &rep_json_writer},   {"csv", &rep_csv_writer},
+                {"junit", &rep_junit_writer}, {"sarif", &rep_sarif_writer}, {"html", &rep_html_writer}};
+    for (size_t i = 0; i < sizeof rows / sizeof rows[0]; i++) {
+        assert_ptr_equal(rep_lookup(rows[i].name), rows[i].w);
+        assert_string_equal(rows[i].w->name, rows[i].name);
+        assert_non_null(strstr(rep_format_names, rows[i].name));
+    }
     assert_null(rep_lookup("xml"));
+    assert_null(rep_lookup("JSON"));
     assert_null(rep_lookup(""));
     assert_null(rep_lookup(NULL));
 }
 
-/* ---- the scenario: an invented two-stage amplifier (demo data of our own) ---- */
-
-#define NDEV 6
+/* ---- rep_prepare: groups across corners, worst corner ---- */
 
 typedef struct {
-    Design ds;
-    SrcFile files[2];
-    SrcFile *filep[2];
-    Card cards[NDEV];
-    Device devs[NDEV];
-    Model models[3];
-    OpRecord recs[NDEV + 1];
-    Row rows[NDEV];
-    const OpRecord *orphans[1];
-    OpTable op;
-    Joined j;
-    Findings f;
-    RuleSet *rs;
-    DiagList d;
-    ReportCtx ctx;
-} Sc;
+    int corner;
+    size_t row;
+    CheckId check;
+    Severity sev;
+    double value, limit;
+    int waived;
+} FRow;
 
-static OpRecord rec(const char *name, OpFamily fam, uint32_t line)
+typedef struct {
+    size_t row;
+    CheckId check;
+    int worst;     /* corner */
+    size_t n;      /* corners in the group */
+    int waived;
+} GRow;
+
+/* Findings given per corner (each corner's list in chk_run's order: severity, then device), the
+ * groups expected in order. The worst corner: not waived, then higher severity, then farther from
+ * the limit relative to it, then the first corner. */
+static const struct {
+    const char *name;
+    FRow f[12];
+    size_t nf;
+    GRow g[8];
+    size_t ng;
+} prep_rows[] = {
+    {"one corner keeps chk_run's order",
+     {{0, 2, CHECK_MARGIN, SEV_ERROR, 0.012, 0.05, 0}, {0, 2, CHECK_GAIN, SEV_WARNING, 8, 10, 0},
+      {0, 3, CHECK_NODATA, SEV_WARNING, NAN, NAN, 0}},
+     3, {{2, CHECK_MARGIN, 0, 1, 0}, {2, CHECK_GAIN, 0, 1, 0}, {3, CHECK_NODATA, 0, 1, 0}}, 3},
+    {"the corner farthest past the limit is the worst",
+     {{0, 2, CHECK_MARGIN, SEV_ERROR, 0.040, 0.05, 0}, {1, 2, CHECK_MARGIN, SEV_ERROR, 0.005, 0.05, 0},
+      {2, 2, CHECK_MARGIN, SEV_ERROR, 0.030, 0.05, 0}},
+     3, {{2, CHECK_MARGIN, 1, 3, 0}}, 1},
+    {"severity before distance",
+     {{0, 1, CHECK_GAIN, SEV_WARNING, 1.0, 10, 0}, {2, 1, CHECK_GAIN, SEV_ERROR, 9.0, 10, 0}},
+     2, {{1, CHECK_GAIN, 2, 2, 0}}, 1},
+    {"a tie goes to the first corner; absent values rank lowest",
+     {{0, 4, CHECK_NODATA, SEV_WARNING, NAN, NAN, 0}, {1, 4, CHECK_NODATA, SEV_WARNING, NAN, NAN, 0},
+      {1, 0, CHECK_GAIN, SEV_WARNING, NAN, 10, 0}, {2, 0, CHECK_GAIN, SEV_WARNING, 9.9, 10, 0}},
+     4, {{0, CHECK_GAIN, 2, 2, 0}, {4, CHECK_NODATA, 0, 2, 0}}, 2},
+    {"errors first over all corners, then devices in netlist order",
+     {{0, 5, CHECK_OFF, SEV_WARNING, 3e-14, 1e-10, 0}, {1, 0, CHECK_TRIODE, SEV_ERROR, -0.01, 0, 0},
+      {1, 5, CHECK_OFF, SEV_WARNING, 2e-14, 1e-10, 0}, {2, 3, CHECK_MARGIN, SEV_ERROR, 0.01, 0.05, 0}},
+     4, {{0, CHECK_TRIODE, 1, 1, 0}, {3, CHECK_MARGIN, 2, 1, 0}, {5, CHECK_OFF, 1, 2, 0}}, 3},
+    {"a waived corner is never the worst; all waived goes last",
+     {{0, 2, CHECK_GAIN, SEV_WARNING, 1, 10, 1}, {1, 2, CHECK_GAIN, SEV_WARNING, 9, 10, 0},
+      {0, 1, CHECK_OFF, SEV_WARNING, 1e-14, 1e-10, 1}, {0, 4, CHECK_GAIN, SEV_INFO, NAN, 10, 0}},
+     4, {{2, CHECK_GAIN, 1, 2, 0}, {4, CHECK_GAIN, 0, 1, 0}, {1, CHECK_OFF, 0, 1, 1}}, 3},
+    {"two findings of one check on one device pair up by order",
+     {{0, 2, CHECK_MARGIN, SEV_ERROR, 0.01, 0.05, 0}, {0, 2, CHECK_MARGIN, SEV_WARNING, 0.04, 0.05, 0},
+      {1, 2, CHECK_MARGIN, SEV_ERROR, 0.02, 0.05, 0}},
+     3, {{2, CHECK_MARGIN, 0, 2, 0}, {2, CHECK_MARGIN, 0, 1, 0}}, 2},
+    {"no findings at all", {{0}}, 0, {{0}}, 0},
+};
+
+static void test_prepare(void **state)
 {
-    OpRecord r;
-    memset(&r, 0, sizeof r);
-    r.name = name;
-    r.family = fam;
-    r.loc = (SrcLoc){"amp.log", line, 1};
-    for (int q = 0; q < OPQ_COUNT; q++)
-        r.q[q] = NAN;
-    return r;
-}
-
-static void scenario(Sc *s)
-{
-    memset(s, 0, sizeof *s);
-    diag_init(&s->d);
-    s->rs = rule_new_defaults(&s->d);
-    assert_non_null(s->rs);
-    s->files[0].path = (char *)"amp.cir";
-    s->files[1].path = (char *)"lib/stage.inc";
-    s->filep[0] = &s->files[0];
-    s->filep[1] = &s->files[1];
-    s->ds.files.files = s->filep;
-    s->ds.files.n = 2;
-    s->ds.temp_c = 27;
-    s->models[0] = (Model){.name = "nch", .type = MOS_NMOS, .level = 14, .cgso = NAN, .cgdo = NAN, .cgbo = NAN};
-    s->models[1] = (Model){.name = "pch", .type = MOS_PMOS, .level = 14, .cgso = 2e-10, .cgdo = 2e-10, .cgbo = NAN};
-    s->models[2] = (Model){.name = "n1", .type = MOS_NMOS, .level = 1, .cgso = NAN, .cgdo = NAN, .cgbo = NAN};
-    static const struct {
-        const char *name;
-        int model;
-        double w, l, m, nf;
-        uint32_t file, line;
-    } dv[NDEV] = {
-        {"x1.m1", 0, 2e-6, 0.5e-6, 1, 1, 1, 4},   {"x1.m2", 1, 4e-6, 0.5e-6, 1, 2, 1, 5},
-        {"x1.m3", 0, 2e-6, 0.5e-6, 2, 1, 1, 6},   {"x1.m4", 1, 8e-6, 1e-6, 1, 1, 1, 7},
-        {"mb5", 2, 1e-6, 1e-6, 4, 1, 0, 12},      {"mtail_with_a_long_name", 0, 10e-6, 1e-6, 1, 1, 0, 13},
-    };
-    for (int i = 0; i < NDEV; i++) {
-        s->cards[i] = (Card){.file = dv[i].file, .line = dv[i].line, .col = 1};
-        const Model *m = &s->models[dv[i].model];
-        s->devs[i] = (Device){.name = dv[i].name, .model = m->name, .mdl = m, .type = m->type, .w = dv[i].w,
-                              .l = dv[i].l, .m = dv[i].m, .nf = dv[i].nf, .cell = dv[i].file ? "stage" : NULL,
-                              .card = (uint32_t)i};
-    }
-    s->ds.cards = s->cards;
-    s->ds.ncards = NDEV;
-    s->ds.devs = s->devs;
-    s->ds.ndevs = NDEV;
-    s->ds.models = s->models;
-    s->ds.nmodels = 3;
-
-    OpRecord *r = s->recs;
-    /* x1.m1: moderate inversion, 15 /V */
-    r[0] = rec("x1.m1", OPFAM_BSIM, 10);
-    r[0].q[OPQ_ID] = 1e-5, r[0].q[OPQ_GM] = 1.5e-4, r[0].q[OPQ_GDS] = 3e-6, r[0].q[OPQ_VGS] = 0.6;
-    r[0].q[OPQ_VDS] = 0.5, r[0].q[OPQ_VBS] = 0, r[0].q[OPQ_VTH] = 0.45, r[0].q[OPQ_VDSAT] = 0.12;
-    r[0].q[OPQ_CGG] = 2e-15;
-    /* x1.m2: PMOS written with drain and source swapped, strong inversion */
-    r[1] = rec("x1.m2", OPFAM_BSIM, 11);
-    r[1].q[OPQ_ID] = 5e-5, r[1].q[OPQ_GM] = 4e-4, r[1].q[OPQ_GDS] = 5e-6, r[1].q[OPQ_VGS] = -0.2;
-    r[1].q[OPQ_VDS] = -0.6, r[1].q[OPQ_VBS] = -0.6, r[1].q[OPQ_VTH] = 0.35, r[1].q[OPQ_VDSAT] = 0.2;
-    r[1].q[OPQ_CGG] = 4.5e-15;
-    /* x1.m3: 12 mV from leaving saturation, weak gain */
-    r[2] = rec("x1.m3", OPFAM_BSIM, 12);
-    r[2].q[OPQ_ID] = 2e-5, r[2].q[OPQ_GM] = 2.4e-4, r[2].q[OPQ_GDS] = 3e-5, r[2].q[OPQ_VGS] = 0.55;
-    r[2].q[OPQ_VDS] = 0.232, r[2].q[OPQ_VBS] = 0, r[2].q[OPQ_VTH] = 0.42, r[2].q[OPQ_VDSAT] = 0.22;
-    r[2].q[OPQ_CGG] = 3e-15;
-    /* x1.m4: no record */
-    /* mb5: level 1, m = 4, Meyer capacitances (the ngspice numbers of check-values.md section 5, x4) */
-    r[4] = rec("mb5", OPFAM_MOS1, 20);
-    r[4].q[OPQ_ID] = 3.96e-5, r[4].q[OPQ_GM] = 2.64e-4, r[4].q[OPQ_GDS] = 3.6e-6, r[4].q[OPQ_VGS] = 0.8;
-    r[4].q[OPQ_VDS] = 1.0, r[4].q[OPQ_VBS] = 0, r[4].q[OPQ_VON] = 0.5, r[4].q[OPQ_VDSAT] = 0.3;
-    r[4].q[OPQ_CGS] = 1.841676e-14, r[4].q[OPQ_CGD] = 0, r[4].q[OPQ_CGB] = 0;
-    /* mtail: off, and no vdsat in the dump */
-    r[5] = rec("mtail_with_a_long_name", OPFAM_BSIM, 21);
-    r[5].q[OPQ_ID] = 3e-13, r[5].q[OPQ_GM] = 1e-11, r[5].q[OPQ_GDS] = 1e-12, r[5].q[OPQ_VGS] = 0.0;
-    r[5].q[OPQ_VDS] = 0.9, r[5].q[OPQ_VBS] = 0, r[5].q[OPQ_VTH] = 0.45;
-    /* a record for a device the netlist does not have */
-    r[6] = rec("x9.m1", OPFAM_BSIM, 22);
-    r[6].q[OPQ_ID] = 1e-6;
-    s->orphans[0] = &r[6];
-
-    for (int i = 0; i < NDEV; i++) {
-        Row *row = &s->rows[i];
-        row->dev = &s->devs[i];
-        row->op = i == 3 ? NULL : &r[i];
-        fig_normalize(row->op, row->dev->type, &row->fig);
-        if (row->op) {
-            fig_add_overlap(&row->fig, row->dev);
-            fig_derive(&row->fig, row->dev, rule_bands(s->rs, row->dev, NULL));
-            s->j.nmatched++;
+    (void)state;
+    Sc s;
+    scene(&s, 1);
+    for (size_t t = 0; t < sizeof prep_rows / sizeof prep_rows[0]; t++) {
+        Findings fs[MAXC];
+        RepCorner rc[MAXC];
+        memset(fs, 0, sizeof fs);
+        for (int k = 0; k < MAXC; k++) {
+            fs[k].items = calloc(prep_rows[t].nf + 1, sizeof *fs[k].items);
+            assert_non_null(fs[k].items);
+            rc[k] = (RepCorner){scene_label[k], "x.log", &s.op[0], &s.j[0], &fs[k]};
         }
-    }
-    s->j.rows = s->rows;
-    s->j.n = NDEV;
-    s->j.orphans = s->orphans;
-    s->j.norphans = 1;
-    s->j.overlap = 1;
-    assert_int_equal(chk_run(s->rs, &s->ds, &s->j, &s->f), ERR_OK);
-    s->op.format = OPFMT_SHOW;
-    s->ctx = (ReportCtx){.design = &s->ds, .op = &s->op, .joined = &s->j, .findings = &s->f, .rules = s->rs,
-                         .netlist_path = "amp.cir", .op_path = "amp.log", .fail_level = SEV_WARNING, .color = 0};
-}
-
-static void scenario_free(Sc *s)
-{
-    chk_free(&s->f);
-    rule_free(s->rs);
-    diag_free(&s->d);
-}
-
-/* Writes with w into memory; returns the text (malloc'd) and its status through *rc. */
-static char *render(const ReportWriter *w, const ReportCtx *c, int *rc, size_t *len)
-{
-    char *text = NULL;
-    size_t n = 0;
-    FILE *fp = open_memstream(&text, &n);
-    assert_non_null(fp);
-    *rc = w->write(c, fp);
-    assert_int_equal(fclose(fp), 0);
-    *len = n;
-    return text;
-}
-
-static char *slurp(const char *path, size_t *len)
-{
-    FILE *fp = fopen(path, "rb");
-    if (!fp)
-        return NULL;
-    fseek(fp, 0, SEEK_END);
-    long n = ftell(fp);
-    fseek(fp, 0, SEEK_SET);
-    char *s = malloc((size_t)n + 1);
-    assert_non_null(s);
-    assert_int_equal(fread(s, 1, (size_t)n, fp), (size_t)n);
-    s[n] = '\0';
-    fclose(fp);
-    *len = (size_t)n;
-    return s;
-}
-
-/* Replaces the version string by @VERSION@ and the line numbers of the compiled-in defaults by N,
-   so that a release or a new comment in rules/defaults.rules does not change the golden file (the
-   origins themselves are checked in test_check and test_rules). */
-static char *unversion(const char *text)
-{
-    const char *v = BIASLINT_VERSION;
-    size_t vl = strlen(v), n = strlen(text);
-    char *out = malloc(n + 16), *o = out;
-    assert_non_null(out);
-    int done = 0;
-    for (const char *p = text; *p;) {
-        if (!done && strncmp(p, v, vl) == 0) {
-            memcpy(o, "@VERSION@", 9);
-            o += 9;
-            p += vl;
-            done = 1;
-        } else if (strncmp(p, "<defaults>:", 11) == 0) {
-            memcpy(o, "<defaults>:N", 12);
-            o += 12;
-            p += 11;
-            while (*p >= '0' && *p <= '9')
-                p++;
-        } else {
-            *o++ = *p++;
+        for (size_t i = 0; i < prep_rows[t].nf; i++) {
+            const FRow *r = &prep_rows[t].f[i];
+            Finding f;
+            memset(&f, 0, sizeof f);
+            f.row = r->row, f.check = r->check, f.sev = r->sev, f.value = r->value, f.limit = r->limit;
+            f.waived = r->waived;
+            f.message = "m";
+            fs[r->corner].items[fs[r->corner].n++] = f;
+            if (!r->waived)
+                fs[r->corner].count[r->sev]++;
         }
+        ReportCtx c = s.ctx;
+        c.corners = rc;
+        c.ncorners = MAXC;
+        RepPrep p;
+        assert_int_equal(rep_prepare(&c, &p), ERR_OK);
+        if (p.ngroups != prep_rows[t].ng) {
+            print_error("%s: %zu groups, expected %zu\n", prep_rows[t].name, p.ngroups, prep_rows[t].ng);
+            fail();
+        }
+        size_t refs = 0;
+        for (size_t g = 0; g < p.ngroups; g++) {
+            const RepGroup *gr = &p.groups[g];
+            const GRow *w = &prep_rows[t].g[g];
+            if (gr->row != w->row || gr->check != (int)w->check || (int)gr->worst.corner != w->worst || gr->n != w->n ||
+                gr->waived != w->waived) {
+                print_error("%s: group %zu is row %zu check %d worst %u n %zu waived %d; expected %zu %d %d %zu %d\n",
+                            prep_rows[t].name, g, gr->row, gr->check, gr->worst.corner, gr->n, gr->waived, w->row,
+                            (int)w->check, w->worst, w->n, w->waived);
+                fail();
+            }
+            /* every member points back at its group, members in corner order */
+            for (size_t q = gr->first; q < gr->first + gr->n; q++) {
+                assert_int_equal(p.group_of[p.base[p.refs[q].corner] + p.refs[q].index], g);
+                assert_int_equal(rep_finding(&c, p.refs[q])->row, gr->row);
+                if (q > gr->first)
+                    assert_true(p.refs[q].corner > p.refs[q - 1].corner);
+            }
+            refs += gr->n;
+        }
+        assert_int_equal(refs, prep_rows[t].nf);
+        assert_int_equal(p.nrefs, prep_rows[t].nf);
+        /* row_start lists each device's findings */
+        size_t total = 0;
+        for (size_t r = 0; r < NDEV; r++)
+            for (size_t q = p.row_start[r]; q < p.row_start[r + 1]; q++, total++)
+                assert_int_equal(rep_finding(&c, p.refs[q])->row, r);
+        assert_int_equal(total, prep_rows[t].nf);
+        rep_prep_free(&p);
+        for (int k = 0; k < MAXC; k++)
+            free(fs[k].items);
     }
-    *o = '\0';
-    return out;
+    scene_free(&s);
 }
 
-#define GOLDEN "fixtures/report/amp.txt"
+/* ---- the text report ---- */
 
 static void test_text_golden(void **state)
 {
     (void)state;
     Sc s;
-    scenario(&s);
+    scene(&s, 1);
     int rc;
     size_t n;
     char *text = render(&rep_text_writer, &s.ctx, &rc, &n);
     assert_int_equal(rc, ERR_OK);
-    char *got = unversion(text);
-    if (getenv("BIASLINT_UPDATE_GOLDEN")) {
-        FILE *fp = fopen(GOLDEN, "wb");
-        assert_non_null(fp);
-        fputs(got, fp);
-        fclose(fp);
-    }
-    size_t gl;
-    char *want = slurp(GOLDEN, &gl);
-    assert_non_null(want);
-    if (strcmp(got, want) != 0) {
-        print_error("text report differs from %s; got:\n%s\n", GOLDEN, got);
-        fail();
-    }
+    golden("fixtures/report/amp.txt", text);
     assert_null(strchr(text, '\033')); /* no colour unless asked */
-    free(want);
-    free(got);
+    assert_null(strstr(text, "corner"));  /* one corner: no corner column, no corner notes */
     free(text);
-    scenario_free(&s);
+    scene_free(&s);
+}
+
+static void test_text_corners(void **state)
+{
+    (void)state;
+    Sc s;
+    scene(&s, 3);
+    int rc;
+    size_t n;
+    char *text = render(&rep_text_writer, &s.ctx, &rc, &n);
+    assert_int_equal(rc, ERR_OK);
+    golden("fixtures/report/amp3.txt", text);
+    /* x1.m3: its margin is worst in hot (5 mV of 50), it is in triode in cold only, its gain is worst in cold */
+    assert_non_null(strstr(text, "sat-margin  VDS-VDSAT is 5 mV, below the 50 mV minimum"));
+    assert_non_null(strstr(text, "[worst hot; also typ]"));
+    assert_non_null(strstr(text, "[every corner, worst cold]"));
+    assert_non_null(strstr(text, "[cold only]"));
+    assert_non_null(strstr(text, "gm/gds is 6, below the minimum of 10"));
+    /* one table row per device per corner */
+    assert_non_null(strstr(text, "x1.m3                   nch    2u/500n m=2   cold"));
+    free(text);
+    scene_free(&s);
 }
 
 static void test_text_details(void **state)
 {
     (void)state;
     Sc s;
-    scenario(&s);
+    scene(&s, 1);
     int rc;
     size_t n;
     s.ctx.color = 1;
@@ -301,370 +256,21 @@ static void test_text_details(void **state)
     /* no findings at all */
     Findings none;
     memset(&none, 0, sizeof none);
-    s.ctx.findings = &none;
-    text = render(&rep_text_writer, &s.ctx, &rc, &n);
+    ReportCtx c = s.ctx;
+    c.corners = NULL;
+    c.ncorners = 0;
+    c.findings = &none;
+    RepPrep p;
+    assert_int_equal(rep_prepare(&c, &p), ERR_OK);
+    text = render(&rep_text_writer, &c, &rc, &n);
     assert_non_null(strstr(text, "No findings."));
     assert_non_null(strstr(text, "none at or above it, pass\n"));
     free(text);
-    scenario_free(&s);
+    rep_prep_free(&p);
+    scene_free(&s);
 }
 
-/* ---- a strict JSON reader (RFC 8259), enough to validate and inspect the report ---- */
-
-typedef enum { J_NULL, J_BOOL, J_NUM, J_STR, J_ARR, J_OBJ } JType;
-typedef struct JVal JVal;
-struct JVal {
-    JType t;
-    int b;
-    double num;
-    char *str;      /* decoded, NUL-terminated (J_STR) */
-    char **keys;    /* J_OBJ */
-    JVal **items;   /* J_ARR, J_OBJ */
-    size_t n, cap;
-};
-
-typedef struct {
-    const char *p, *end;
-    int depth;
-} JIn;
-
-static void jfree(JVal *v)
-{
-    if (!v)
-        return;
-    for (size_t i = 0; i < v->n; i++) {
-        jfree(v->items[i]);
-        if (v->keys)
-            free(v->keys[i]);
-    }
-    free(v->items);
-    free(v->keys);
-    free(v->str);
-    free(v);
-}
-
-static void ws(JIn *in)
-{
-    while (in->p < in->end && (*in->p == ' ' || *in->p == '\t' || *in->p == '\n' || *in->p == '\r'))
-        in->p++;
-}
-
-static int hexval(char c)
-{
-    return c >= '0' && c <= '9' ? c - '0' : c >= 'a' && c <= 'f' ? c - 'a' + 10 : c >= 'A' && c <= 'F' ? c - 'A' + 10 : -1;
-}
-
-static int hex4(JIn *in, unsigned *u)
-{
-    if (in->end - in->p < 4)
-        return -1;
-    *u = 0;
-    for (int k = 0; k < 4; k++) {
-        int h = hexval(in->p[k]);
-        if (h < 0)
-            return -1;
-        *u = *u * 16 + (unsigned)h;
-    }
-    in->p += 4;
-    return 0;
-}
-
-static void put_utf8(char **o, unsigned cp)
-{
-    char *q = *o;
-    if (cp < 0x80) {
-        *q++ = (char)cp;
-    } else if (cp < 0x800) {
-        *q++ = (char)(0xc0 | cp >> 6);
-        *q++ = (char)(0x80 | (cp & 0x3f));
-    } else if (cp < 0x10000) {
-        *q++ = (char)(0xe0 | cp >> 12);
-        *q++ = (char)(0x80 | (cp >> 6 & 0x3f));
-        *q++ = (char)(0x80 | (cp & 0x3f));
-    } else {
-        *q++ = (char)(0xf0 | cp >> 18);
-        *q++ = (char)(0x80 | (cp >> 12 & 0x3f));
-        *q++ = (char)(0x80 | (cp >> 6 & 0x3f));
-        *q++ = (char)(0x80 | (cp & 0x3f));
-    }
-    *o = q;
-}
-
-/* Raw bytes must be valid UTF-8 (no overlong forms, no surrogates). Returns the length or 0. */
-static size_t utf8_len(const unsigned char *s, const unsigned char *end)
-{
-    unsigned c = s[0];
-    size_t n = c >= 0xc2 && c <= 0xdf ? 2 : c >= 0xe0 && c <= 0xef ? 3 : c >= 0xf0 && c <= 0xf4 ? 4 : 0;
-    if (!n || (size_t)(end - s) < n)
-        return 0;
-    for (size_t k = 1; k < n; k++)
-        if ((s[k] & 0xc0) != 0x80)
-            return 0;
-    if ((c == 0xe0 && s[1] < 0xa0) || (c == 0xed && s[1] >= 0xa0) || (c == 0xf0 && s[1] < 0x90) ||
-        (c == 0xf4 && s[1] >= 0x90))
-        return 0;
-    return n;
-}
-
-static char *jstring(JIn *in)
-{
-    if (in->p >= in->end || *in->p != '"')
-        return NULL;
-    in->p++;
-    /* decoded text is never longer than its source: measure up to the closing quote first */
-    const char *q = in->p;
-    while (q < in->end && *q != '"')
-        q += *q == '\\' && q + 1 < in->end ? 2 : 1;
-    char *out = malloc((size_t)(q - in->p) + 1), *o = out;
-    assert_non_null(out);
-    while (in->p < in->end && *in->p != '"') {
-        unsigned char c = (unsigned char)*in->p;
-        if (c < 0x20)
-            goto bad; /* control characters must be escaped */
-        if (c == '\\') {
-            in->p++;
-            if (in->p >= in->end)
-                goto bad;
-            char e = *in->p++;
-            unsigned u;
-            switch (e) {
-            case '"': *o++ = '"'; break;
-            case '\\': *o++ = '\\'; break;
-            case '/': *o++ = '/'; break;
-            case 'b': *o++ = '\b'; break;
-            case 'f': *o++ = '\f'; break;
-            case 'n': *o++ = '\n'; break;
-            case 'r': *o++ = '\r'; break;
-            case 't': *o++ = '\t'; break;
-            case 'u':
-                if (hex4(in, &u))
-                    goto bad;
-                if (u >= 0xd800 && u < 0xdc00) {
-                    unsigned lo;
-                    if (in->end - in->p < 6 || in->p[0] != '\\' || in->p[1] != 'u')
-                        goto bad;
-                    in->p += 2;
-                    if (hex4(in, &lo) || lo < 0xdc00 || lo > 0xdfff)
-                        goto bad;
-                    u = 0x10000 + ((u - 0xd800) << 10) + (lo - 0xdc00);
-                } else if (u >= 0xdc00 && u < 0xe000) {
-                    goto bad;
-                }
-                put_utf8(&o, u);
-                break;
-            default:
-                goto bad;
-            }
-            continue;
-        }
-        if (c >= 0x80) {
-            size_t n = utf8_len((const unsigned char *)in->p, (const unsigned char *)in->end);
-            if (!n)
-                goto bad;
-            memcpy(o, in->p, n);
-            o += n;
-            in->p += n;
-            continue;
-        }
-        *o++ = (char)c;
-        in->p++;
-    }
-    if (in->p >= in->end)
-        goto bad;
-    in->p++;
-    *o = '\0';
-    return out;
-bad:
-    free(out);
-    return NULL;
-}
-
-static JVal *jvalue(JIn *in);
-
-static JVal *jnew(JType t)
-{
-    JVal *v = calloc(1, sizeof *v);
-    assert_non_null(v);
-    v->t = t;
-    return v;
-}
-
-static int lit(JIn *in, const char *w)
-{
-    size_t n = strlen(w);
-    if ((size_t)(in->end - in->p) < n || strncmp(in->p, w, n) != 0)
-        return 0;
-    in->p += n;
-    return 1;
-}
-
-static JVal *jnumber(JIn *in)
-{
-    const char *s = in->p;
-    if (in->p < in->end && *in->p == '-')
-        in->p++;
-    if (in->p >= in->end)
-        return NULL;
-    if (*in->p == '0')
-        in->p++;
-    else if (*in->p >= '1' && *in->p <= '9')
-        while (in->p < in->end && *in->p >= '0' && *in->p <= '9')
-            in->p++;
-    else
-        return NULL;
-    if (in->p < in->end && *in->p == '.') {
-        in->p++;
-        if (in->p >= in->end || !(*in->p >= '0' && *in->p <= '9'))
-            return NULL;
-        while (in->p < in->end && *in->p >= '0' && *in->p <= '9')
-            in->p++;
-    }
-    if (in->p < in->end && (*in->p == 'e' || *in->p == 'E')) {
-        in->p++;
-        if (in->p < in->end && (*in->p == '+' || *in->p == '-'))
-            in->p++;
-        if (in->p >= in->end || !(*in->p >= '0' && *in->p <= '9'))
-            return NULL;
-        while (in->p < in->end && *in->p >= '0' && *in->p <= '9')
-            in->p++;
-    }
-    size_t n = (size_t)(in->p - s);
-    char *tmp = malloc(n + 1);
-    assert_non_null(tmp);
-    memcpy(tmp, s, n);
-    tmp[n] = '\0';
-    JVal *v = jnew(J_NUM);
-    v->num = strtod(tmp, NULL);
-    free(tmp);
-    return v;
-}
-
-static void jpush(JVal *v, char *key, JVal *item)
-{
-    if (v->n == v->cap) {
-        v->cap = v->cap ? v->cap * 2 : 8;
-        v->items = realloc(v->items, v->cap * sizeof *v->items);
-        assert_non_null(v->items);
-        if (v->t == J_OBJ) {
-            v->keys = realloc(v->keys, v->cap * sizeof *v->keys);
-            assert_non_null(v->keys);
-        }
-    }
-    if (v->t == J_OBJ)
-        v->keys[v->n] = key;
-    v->items[v->n++] = item;
-}
-
-static JVal *jvalue(JIn *in)
-{
-    ws(in);
-    if (in->p >= in->end || ++in->depth > 64)
-        return NULL;
-    JVal *v = NULL;
-    char c = *in->p;
-    if (c == '{' || c == '[') {
-        int obj = c == '{';
-        v = jnew(obj ? J_OBJ : J_ARR);
-        in->p++;
-        ws(in);
-        if (in->p < in->end && *in->p == (obj ? '}' : ']')) {
-            in->p++;
-        } else {
-            for (;;) {
-                char *key = NULL;
-                if (obj) {
-                    ws(in);
-                    key = jstring(in);
-                    if (!key)
-                        goto bad;
-                    for (size_t k = 0; k < v->n; k++)
-                        if (!strcmp(v->keys[k], key)) {
-                            free(key);
-                            goto bad; /* duplicate key */
-                        }
-                    ws(in);
-                    if (in->p >= in->end || *in->p != ':') {
-                        free(key);
-                        goto bad;
-                    }
-                    in->p++;
-                }
-                JVal *item = jvalue(in);
-                if (!item) {
-                    free(key);
-                    goto bad;
-                }
-                jpush(v, key, item);
-                ws(in);
-                if (in->p < in->end && *in->p == ',') {
-                    in->p++;
-                    continue;
-                }
-                if (in->p < in->end && *in->p == (obj ? '}' : ']')) {
-                    in->p++;
-                    break;
-                }
-                goto bad;
-            }
-        }
-    } else if (c == '"') {
-        char *s = jstring(in);
-        if (!s)
-            return NULL;
-        v = jnew(J_STR);
-        v->str = s;
-    } else if (lit(in, "null")) {
-        v = jnew(J_NULL);
-    } else if (lit(in, "true")) {
-        v = jnew(J_BOOL);
-        v->b = 1;
-    } else if (lit(in, "false")) {
-        v = jnew(J_BOOL);
-    } else {
-        v = jnumber(in);
-    }
-    in->depth--;
-    return v;
-bad:
-    jfree(v);
-    return NULL;
-}
-
-/* The whole text is one JSON value, or NULL. */
-static JVal *jparse(const char *text, size_t len)
-{
-    JIn in = {text, text + len, 0};
-    JVal *v = jvalue(&in);
-    if (!v)
-        return NULL;
-    ws(&in);
-    if (in.p != in.end) {
-        jfree(v);
-        return NULL;
-    }
-    return v;
-}
-
-static const JVal *jget(const JVal *o, const char *key)
-{
-    if (!o || o->t != J_OBJ)
-        return NULL;
-    for (size_t i = 0; i < o->n; i++)
-        if (!strcmp(o->keys[i], key))
-            return o->items[i];
-    return NULL;
-}
-
-static void has_keys(const JVal *o, const char *const *keys)
-{
-    assert_non_null(o);
-    assert_int_equal(o->t, J_OBJ);
-    for (size_t i = 0; keys[i]; i++)
-        if (!jget(o, keys[i])) {
-            print_error("key \"%s\" is missing\n", keys[i]);
-            fail();
-        }
-}
+/* ---- JSON ---- */
 
 static void test_validator(void **state)
 {
@@ -697,48 +303,66 @@ static const char *const device_keys[] = {
     "name", "model", "type", "w", "l", "m", "nf", "file", "line", "id", "gm", "gds", "vgs", "vds", "vsb",
     "vth", "vdsat", "cgg", "gm_id", "id_w", "gain", "ft", "vov", "margin", "region", "swapped", NULL,
 };
-static const char *const finding_keys[] = {"device", "check", "severity", "value", "limit", "message",
-                                           "file", "line", "rule", NULL};
-static const char *const summary_keys[] = {"devices", "errors", "warnings", "infos", "matched",
-                                           "without_data", "orphans", NULL};
-static const char *const top_keys[] = {"tool", "version", "schema", "netlist", "op", "devices",
-                                       "findings", "summary", NULL};
+static const char *const corner_device_keys[] = {"name", "model", "type", "w", "l", "m", "nf", "file", "line",
+                                                 "corners", NULL};
+static const char *const per_corner_keys[] = {"corner", "has_data", "id", "gm_id", "gain", "margin", "region", NULL};
+static const char *const finding_keys[] = {"device", "check", "severity", "value", "limit", "message", "file",
+                                           "line", "rule", "corner", "worst_corner", "in_corners", "intended",
+                                           "want_lo", "want_hi", "direction", "group", "waived", "waiver_reason",
+                                           "waiver", "fails", NULL};
+static const char *const summary_keys[] = {"devices", "corners", "errors", "warnings", "infos", "waived", "matched",
+                                           "without_data", "orphans", "fail_level", "failing", "failed", NULL};
+static const char *const top_keys[] = {"tool", "version", "schema", "netlist", "op", "corners", "devices",
+                                       "findings", "orphan_records", "loose_findings", "summary", NULL};
+
+static JVal *render_json(const ReportCtx *c, char **text)
+{
+    int rc;
+    size_t n;
+    *text = render(&rep_json_writer, c, &rc, &n);
+    assert_int_equal(rc, ERR_OK);
+    JVal *root = jparse(*text, n);
+    if (!root) {
+        print_error("not valid JSON:\n%s\n", *text);
+        fail();
+    }
+    return root;
+}
 
 static void test_json(void **state)
 {
     (void)state;
     Sc s;
-    scenario(&s);
-    int rc;
-    size_t n;
-    char *text = render(&rep_json_writer, &s.ctx, &rc, &n);
-    assert_int_equal(rc, ERR_OK);
-    JVal *root = jparse(text, n);
-    if (!root) {
-        print_error("not valid JSON:\n%s\n", text);
-        fail();
-    }
+    scene(&s, 1);
+    char *text;
+    JVal *root = render_json(&s.ctx, &text);
     has_keys(root, top_keys);
     assert_string_equal(jget(root, "tool")->str, "biaslint");
     assert_string_equal(jget(root, "version")->str, BIASLINT_VERSION);
-    assert_int_equal(jget(root, "schema")->num, 1);
+    assert_int_equal(jget(root, "schema")->num, 2);
     assert_string_equal(jget(root, "netlist")->str, "amp.cir");
     assert_string_equal(jget(root, "op")->str, "amp.log");
+    const JVal *cs = jget(root, "corners");
+    assert_int_equal(cs->n, 1);
+    assert_string_equal(jget(cs->items[0], "label")->str, "");
+    assert_string_equal(jget(cs->items[0], "op_format")->str, "show");
 
     const JVal *devs = jget(root, "devices");
     assert_int_equal(devs->t, J_ARR);
     assert_int_equal(devs->n, NDEV);
-    for (size_t i = 0; i < devs->n; i++)
+    for (size_t i = 0; i < devs->n; i++) {
         has_keys(devs->items[i], device_keys);
+        assert_null(jget(devs->items[i], "corners")); /* one corner: the flat layout of schema 1 */
+    }
     const JVal *m1 = devs->items[0];
     assert_string_equal(jget(m1, "name")->str, "x1.m1");
     assert_string_equal(jget(m1, "type")->str, "nmos");
     assert_string_equal(jget(m1, "file")->str, "lib/stage.inc");
     assert_int_equal(jget(m1, "line")->num, 4);
     /* numbers read back to the very same double */
-    assert_true(jget(m1, "id")->num == s.rows[0].fig.id);
-    assert_true(jget(m1, "gm_id")->num == s.rows[0].fig.gm_id);
-    assert_true(jget(m1, "ft")->num == s.rows[0].fig.ft);
+    assert_true(jget(m1, "id")->num == s.rows[0][0].fig.id);
+    assert_true(jget(m1, "gm_id")->num == s.rows[0][0].fig.gm_id);
+    assert_true(jget(m1, "ft")->num == s.rows[0][0].fig.ft);
     assert_true(jget(m1, "w")->num == 2e-6);
     assert_string_equal(jget(m1, "region")->str, "moderate");
     assert_int_equal(jget(m1, "swapped")->t, J_BOOL);
@@ -771,10 +395,12 @@ static void test_json(void **state)
 
     const JVal *fs = jget(root, "findings");
     assert_int_equal(fs->t, J_ARR);
-    assert_int_equal(fs->n, s.f.n);
+    assert_int_equal(fs->n, s.f[0].n);
     for (size_t i = 0; i < fs->n; i++) {
         has_keys(fs->items[i], finding_keys);
-        assert_string_equal(jget(fs->items[i], "message")->str, s.f.items[i].message);
+        assert_string_equal(jget(fs->items[i], "message")->str, s.f[0].items[i].message);
+        assert_string_equal(jget(fs->items[i], "corner")->str, "");
+        assert_null(jget(fs->items[i], "status")); /* no baseline */
     }
     const JVal *f0 = fs->items[0];
     assert_string_equal(jget(f0, "severity")->str, "error");
@@ -783,6 +409,8 @@ static void test_json(void **state)
     assert_true(jget(f0, "limit")->num == 0.05);
     assert_int_equal(jget(f0, "line")->num, 6);
     assert_non_null(strstr(jget(f0, "rule")->str, "<defaults>:"));
+    assert_true(jget(f0, "fails")->b);
+    assert_false(jget(f0, "waived")->b);
     /* the no-data finding: value and limit null */
     int saw_nodata = 0;
     for (size_t i = 0; i < fs->n; i++)
@@ -792,20 +420,102 @@ static void test_json(void **state)
             assert_int_equal(jget(fs->items[i], "limit")->t, J_NULL);
         }
     assert_true(saw_nodata);
+    assert_int_equal(jget(root, "orphan_records")->n, 1);
+    assert_string_equal(jget(jget(root, "orphan_records")->items[0], "name")->str, "x9.m1");
 
     const JVal *sum = jget(root, "summary");
     has_keys(sum, summary_keys);
     assert_int_equal(jget(sum, "devices")->num, NDEV);
-    assert_int_equal(jget(sum, "errors")->num, s.f.count[SEV_ERROR]);
-    assert_int_equal(jget(sum, "warnings")->num, s.f.count[SEV_WARNING]);
-    assert_int_equal(jget(sum, "infos")->num, s.f.count[SEV_INFO]);
+    assert_int_equal(jget(sum, "corners")->num, 1);
+    assert_int_equal(jget(sum, "errors")->num, s.f[0].count[SEV_ERROR]);
+    assert_int_equal(jget(sum, "warnings")->num, s.f[0].count[SEV_WARNING]);
+    assert_int_equal(jget(sum, "infos")->num, s.f[0].count[SEV_INFO]);
     assert_int_equal(jget(sum, "matched")->num, 5);
     assert_int_equal(jget(sum, "without_data")->num, 1);
     assert_int_equal(jget(sum, "orphans")->num, 1);
+    assert_string_equal(jget(sum, "fail_level")->str, "warning");
+    assert_int_equal(jget(sum, "failing")->num, 4);
     assert_true(jget(sum, "failed")->b);
     jfree(root);
     free(text);
-    scenario_free(&s);
+    scene_free(&s);
+}
+
+static const JVal *finding_of(const JVal *fs, const char *dev, const char *check, const char *corner)
+{
+    for (size_t i = 0; i < fs->n; i++)
+        if (!strcmp(jget(fs->items[i], "device")->str, dev) && !strcmp(jget(fs->items[i], "check")->str, check) &&
+            !strcmp(jget(fs->items[i], "corner")->str, corner))
+            return fs->items[i];
+    return NULL;
+}
+
+static void test_json_corners(void **state)
+{
+    (void)state;
+    Sc s;
+    scene(&s, 3);
+    char *text;
+    JVal *root = render_json(&s.ctx, &text);
+    has_keys(root, top_keys);
+    const JVal *cs = jget(root, "corners");
+    assert_int_equal(cs->n, 3);
+    for (int k = 0; k < 3; k++)
+        assert_string_equal(jget(cs->items[k], "label")->str, scene_label[k]);
+    assert_string_equal(jget(cs->items[2], "op_format")->str, "raw");
+    assert_string_equal(jget(root, "op")->str, "amp.log"); /* the first corner's, for schema-1 readers */
+    const JVal *devs = jget(root, "devices");
+    assert_int_equal(devs->n, NDEV);
+    for (size_t i = 0; i < NDEV; i++) {
+        has_keys(devs->items[i], corner_device_keys);
+        assert_null(jget(devs->items[i], "gm_id")); /* figures only per corner */
+        const JVal *pc = jget(devs->items[i], "corners");
+        assert_int_equal(pc->n, 3);
+        for (int k = 0; k < 3; k++) {
+            has_keys(pc->items[k], per_corner_keys);
+            assert_string_equal(jget(pc->items[k], "corner")->str, scene_label[k]);
+            if (i != 3)
+                assert_true(jget(pc->items[k], "vds")->num == s.rows[k][i].fig.vds);
+        }
+    }
+    /* x1.m3 is in triode in cold */
+    assert_string_equal(jget(jget(devs->items[2], "corners")->items[1], "region")->str, "triode");
+    const JVal *fs = jget(root, "findings");
+    size_t total = 0;
+    for (int k = 0; k < 3; k++)
+        total += s.f[k].n;
+    assert_int_equal(fs->n, total);
+    for (size_t i = 0; i < fs->n; i++)
+        has_keys(fs->items[i], finding_keys);
+    /* the worst corner of each device and check, named on every corner's finding */
+    const JVal *m = finding_of(fs, "x1.m3", "sat-margin", "typ");
+    assert_non_null(m);
+    assert_string_equal(jget(m, "worst_corner")->str, "hot");
+    assert_int_equal(jget(m, "in_corners")->num, 2);
+    assert_null(finding_of(fs, "x1.m3", "sat-margin", "cold")); /* triode there instead */
+    const JVal *t = finding_of(fs, "x1.m3", "triode", "cold");
+    assert_non_null(t);
+    assert_string_equal(jget(t, "worst_corner")->str, "cold");
+    assert_int_equal(jget(t, "in_corners")->num, 1);
+    assert_string_equal(jget(finding_of(fs, "x1.m3", "gain", "hot"), "worst_corner")->str, "cold");
+    assert_string_equal(jget(finding_of(fs, "x1.m1", "sat-margin", "hot"), "worst_corner")->str, "hot");
+    /* a device and check's findings stand together, corner order within */
+    size_t at = 0;
+    for (; at < fs->n; at++)
+        if (jget(fs->items[at], "device")->str == jget(m, "device")->str)
+            break;
+    const JVal *sum = jget(root, "summary");
+    assert_int_equal(jget(sum, "corners")->num, 3);
+    size_t errors = 0;
+    for (int k = 0; k < 3; k++)
+        errors += s.f[k].count[SEV_ERROR];
+    assert_int_equal(jget(sum, "errors")->num, errors);
+    assert_int_equal(jget(sum, "orphans")->num, 3);
+    assert_int_equal(jget(root, "orphan_records")->n, 3);
+    assert_string_equal(jget(jget(root, "orphan_records")->items[2], "corner")->str, "hot");
+    jfree(root);
+    free(text);
+    scene_free(&s);
 }
 
 /* Names with quotes, backslashes, control characters, UTF-8 and a byte that is not UTF-8. */
@@ -813,90 +523,134 @@ static void test_json_escapes(void **state)
 {
     (void)state;
     Sc s;
-    scenario(&s);
+    scene(&s, 1);
     s.devs[0].name = "x\"q\\b\t\x01\xc2\xb5\xff/z";
     s.ctx.netlist_path = NULL; /* absent: null */
-    int rc;
-    size_t n;
-    char *text = render(&rep_json_writer, &s.ctx, &rc, &n);
-    assert_int_equal(rc, ERR_OK);
+    char *text;
+    JVal *root = render_json(&s.ctx, &text);
     assert_non_null(strstr(text, "\"x\\\"q\\\\b\\t\\u0001\xc2\xb5\\ufffd/z\""));
-    JVal *root = jparse(text, n);
-    assert_non_null(root);
     assert_string_equal(jget(jget(root, "devices")->items[0], "name")->str, "x\"q\\b\t\x01\xc2\xb5\xef\xbf\xbd/z");
     assert_int_equal(jget(root, "netlist")->t, J_NULL);
     jfree(root);
     free(text);
-    scenario_free(&s);
+    scene_free(&s);
 }
+
+static const ReportWriter *const all_writers[] = {&rep_text_writer,  &rep_json_writer,  &rep_csv_writer,
+                                                  &rep_junit_writer, &rep_sarif_writer, &rep_html_writer};
+#define NWRITERS (sizeof all_writers / sizeof all_writers[0])
 
 static void test_write_errors(void **state)
 {
     (void)state;
     Sc s;
-    scenario(&s);
-    FILE *fp = fopen("/dev/full", "w");
-    if (!fp)
-        skip();
-    assert_int_equal(rep_json_writer.write(&s.ctx, fp), ERR_IO);
-    fclose(fp);
-    fp = fopen("/dev/full", "w");
-    assert_non_null(fp);
-    assert_int_equal(rep_text_writer.write(&s.ctx, fp), ERR_IO);
-    fclose(fp);
-    scenario_free(&s);
+    scene(&s, 3);
+    for (size_t w = 0; w < NWRITERS; w++) {
+        FILE *fp = fopen("/dev/full", "w");
+        if (!fp)
+            skip();
+        setvbuf(fp, NULL, _IOFBF, 512); /* so the failure shows before the last flush */
+        int rc = all_writers[w]->write(&s.ctx, fp);
+        if (rc != ERR_IO) {
+            print_error("%s writer on a full disk: %d, expected ERR_IO\n", all_writers[w]->name, rc);
+            fail();
+        }
+        fclose(fp);
+    }
+    scene_free(&s);
 }
 
-/* 200 000 rows through both writers: linear (a quadratic step would not finish); 20 000 of them
-   validated and the table columns checked. */
-static void many(Sc *s, size_t n, Row **rows, Joined *j, Findings *f, ReportCtx *c)
+/* Without rep_prepare a writer has nothing to group by: it refuses, it does not crash. */
+static void test_unprepared(void **state)
 {
-    *rows = malloc(n * sizeof **rows);
-    assert_non_null(*rows);
-    for (size_t i = 0; i < n; i++)
-        (*rows)[i] = s->rows[i % NDEV];
-    *j = s->j;
-    j->rows = *rows;
-    j->n = n;
-    assert_int_equal(chk_run(s->rs, &s->ds, j, f), ERR_OK);
-    *c = s->ctx;
-    c->joined = j;
-    c->findings = f;
+    (void)state;
+    Sc s;
+    scene(&s, 1);
+    ReportCtx c = s.ctx;
+    c.prep = NULL;
+    for (size_t w = 0; w < NWRITERS; w++) {
+        int rc;
+        size_t n;
+        char *text = render(all_writers[w], &c, &rc, &n);
+        assert_int_equal(rc, ERR_INPUT);
+        free(text);
+    }
+    scene_free(&s);
+}
+
+/* 200 000 rows in one corner and 3 x 40 000 in three through every writer: linear (a quadratic step
+   would not finish); 20 000 of them validated and the table columns checked. */
+typedef struct {
+    Row *rows[MAXC];
+    Joined j[MAXC];
+    Findings f[MAXC];
+    RepCorner rc[MAXC];
+    ReportCtx c;
+    RepPrep p;
+    size_t nc;
+} Many;
+
+static void many(Sc *s, size_t n, size_t nc, Many *m)
+{
+    memset(m, 0, sizeof *m);
+    m->nc = nc;
+    for (size_t k = 0; k < nc; k++) {
+        m->rows[k] = malloc(n * sizeof *m->rows[k]);
+        assert_non_null(m->rows[k]);
+        for (size_t i = 0; i < n; i++)
+            m->rows[k][i] = s->rows[k][i % NDEV];
+        m->j[k] = s->j[k];
+        m->j[k].rows = m->rows[k];
+        m->j[k].n = n;
+        assert_int_equal(chk_run(s->rs, &s->ds, &m->j[k], &m->f[k]), ERR_OK);
+        m->rc[k] = (RepCorner){nc > 1 ? scene_label[k] : "", "amp.log", &s->op[k], &m->j[k], &m->f[k]};
+    }
+    m->c = s->ctx;
+    m->c.corners = m->rc;
+    m->c.ncorners = nc;
+    assert_int_equal(rep_prepare(&m->c, &m->p), ERR_OK);
+}
+
+static void many_free(Many *m)
+{
+    for (size_t k = 0; k < m->nc; k++) {
+        chk_free(&m->f[k]);
+        free(m->rows[k]);
+    }
+    rep_prep_free(&m->p);
 }
 
 static void test_many_rows(void **state)
 {
     (void)state;
     Sc s;
-    scenario(&s);
-    Row *rows;
-    Joined j;
-    Findings f;
-    ReportCtx c;
-    many(&s, 200000, &rows, &j, &f, &c);
-    FILE *fp = fopen("/dev/null", "w");
-    assert_non_null(fp);
-    assert_int_equal(rep_json_writer.write(&c, fp), ERR_OK);
-    assert_int_equal(rep_text_writer.write(&c, fp), ERR_OK);
-    fclose(fp);
-    chk_free(&f);
-    free(rows);
+    scene(&s, 3);
+    Many m;
+    for (size_t nc = 1; nc <= 3; nc += 2) {
+        many(&s, nc == 1 ? 200000 : 40000, nc, &m);
+        FILE *fp = fopen("/dev/null", "w");
+        assert_non_null(fp);
+        for (size_t w = 0; w < NWRITERS; w++)
+            assert_int_equal(all_writers[w]->write(&m.c, fp), ERR_OK);
+        fclose(fp);
+        many_free(&m);
+    }
 
-    many(&s, 20000, &rows, &j, &f, &c);
+    many(&s, 20000, 1, &m);
     int rc;
     size_t len;
-    char *text = render(&rep_json_writer, &c, &rc, &len);
+    char *text = render(&rep_json_writer, &m.c, &rc, &len);
     assert_int_equal(rc, ERR_OK);
     JVal *root = jparse(text, len);
     assert_non_null(root);
     assert_int_equal(jget(root, "devices")->n, 20000);
-    assert_int_equal(jget(root, "findings")->n, f.n);
+    assert_int_equal(jget(root, "findings")->n, m.f[0].n);
     jfree(root);
     free(text);
-    text = render(&rep_text_writer, &c, &rc, &len);
+    char *table = render(&rep_text_writer, &m.c, &rc, &len);
     assert_int_equal(rc, ERR_OK);
     /* every table row puts its region where the header says */
-    const char *head = strstr(text, "\ndevice ");
+    const char *head = strstr(table, "\ndevice ");
     assert_non_null(head);
     head++;
     size_t regcol = (size_t)(strstr(head, "region") - head), rowsseen = 0;
@@ -906,24 +660,19 @@ static void test_many_rows(void **state)
         rowsseen++;
     }
     assert_int_equal(rowsseen, 20000);
-    free(text);
-    chk_free(&f);
-    free(rows);
-    scenario_free(&s);
+    free(table);
+    many_free(&m);
+    scene_free(&s);
 }
 
 int main(void)
 {
     const struct CMUnitTest tests[] = {
-        cmocka_unit_test(test_eng),
-        cmocka_unit_test(test_lookup),
-        cmocka_unit_test(test_text_golden),
-        cmocka_unit_test(test_text_details),
-        cmocka_unit_test(test_validator),
-        cmocka_unit_test(test_json),
-        cmocka_unit_test(test_json_escapes),
-        cmocka_unit_test(test_write_errors),
+        cmocka_unit_test(test_eng),          cmocka_unit_test(test_lookup),       cmocka_unit_test(test_prepare),
+        cmocka_unit_test(test_text_golden),  cmocka_unit_test(test_text_corners), cmocka_unit_test(test_text_details),
+        cmocka_unit_test(test_validator),    cmocka_unit_test(test_json),         cmocka_unit_test(test_json_corners),
+        cmocka_unit_test(test_json_escapes), cmocka_unit_test(test_write_errors), cmocka_unit_test(test_unprepared),
         cmocka_unit_test(test_many_rows),
     };
-    return cmocka_run_group_tests(tests, NULL, NULL);
+    return cmocka_run_group_tests_name("report", tests, NULL, NULL);
 }

@@ -1,0 +1,139 @@
+/* report_csv: one row per device per corner, for spreadsheets and scripts. A header row names the
+ * columns (README lists them); numbers in SI units with the fewest digits that read back exactly,
+ * an empty field where a value is absent; text fields quoted by libcsv's writer. Each row also
+ * carries the device's findings in that corner, its worst severity and, against a baseline, whether
+ * any of them is new. */
+#include "report.h"
+
+#include <csv.h>
+#include <math.h>
+#include <stdlib.h>
+#include <string.h>
+
+#include "buf.h"
+
+static const char *const head[] = {
+    "corner", "device", "model", "type", "cell", "w", "l", "m", "nf", "file", "line", "has_data", "id",
+    "gm", "gds", "gmbs", "vgs", "vds", "vsb", "vth", "vdsat", "cgg", "gm_id", "id_w", "gain", "ft", "vov",
+    "margin", "region", "swapped", "worst_severity", "findings", "baseline", "fails",
+};
+
+typedef struct {
+    FILE *fp;
+    int first;  /* no separator before the first field of a row */
+    int bad;
+} Out;
+
+static void sep(Out *o)
+{
+    if (!o->first)
+        fputc(',', o->fp);
+    o->first = 0;
+}
+
+static void text(Out *o, const char *s)
+{
+    sep(o);
+    if (s && csv_fwrite(o->fp, s, strlen(s)) != 0)
+        o->bad = 1;
+}
+
+static void num(Out *o, double v)
+{
+    sep(o);
+    if (!isfinite(v))
+        return;
+    char buf[40];
+    for (int prec = 15; prec <= 17; prec++) {
+        snprintf(buf, sizeof buf, "%.*g", prec, v);
+        if (prec == 17 || strtod(buf, NULL) == v)
+            break;
+    }
+    fputs(buf, o->fp);
+}
+
+static void uint_field(Out *o, size_t v, int present)
+{
+    sep(o);
+    if (present)
+        fprintf(o->fp, "%zu", v);
+}
+
+static void end_row(Out *o)
+{
+    fputc('\n', o->fp);
+    o->first = 1;
+}
+
+static void row(const ReportCtx *c, Out *o, size_t i, size_t k, Buf *list)
+{
+    const Row *r = &c->corners[k].joined->rows[i];
+    const Device *dv = r->dev;
+    const Figures *f = &r->fig;
+    const char *file;
+    uint32_t line;
+    rep_card_place(c->design, dv, &file, &line);
+    text(o, c->corners[k].label);
+    text(o, dv->name);
+    text(o, dv->model);
+    text(o, rep_type_name(dv->type));
+    text(o, dv->cell);
+    num(o, dv->w);
+    num(o, dv->l);
+    num(o, dv->m);
+    num(o, dv->nf);
+    text(o, file);
+    uint_field(o, line, line != 0);
+    text(o, r->op ? "true" : "false");
+    double q[] = {f->id, f->gm, f->gds, f->gmbs, f->vgs, f->vds, f->vsb, f->vth, f->vdsat, f->cgg,
+                  f->gm_id, f->id_w, f->gain, f->ft, f->vov, f->margin};
+    for (size_t n = 0; n < sizeof q / sizeof q[0]; n++)
+        num(o, q[n]);
+    text(o, rep_region_word(r));
+    text(o, r->op && f->swapped ? "true" : "false");
+    /* this device's findings in this corner */
+    const RepPrep *p = c->prep;
+    int worst = -1, any_new = 0;
+    size_t fails = 0;
+    buf_clear(list);
+    for (size_t q2 = p->row_start[i]; q2 < p->row_start[i + 1]; q2++) {
+        RepRef ref = p->refs[q2];
+        if (ref.corner != k)
+            continue;
+        const Finding *fd = rep_finding(c, ref);
+        if (!fd->waived && (int)fd->sev > worst)
+            worst = (int)fd->sev;
+        any_new |= rep_status(c, ref.corner, ref.index) == BL_NEW;
+        fails += rep_fails(c, ref.corner, ref.index) != 0;
+        if ((list->len && buf_puts(list, "; ") != ERR_OK) ||
+            buf_printf(list, "%s:%s%s", rep_check_name((int)fd->check), rule_severity_name[fd->sev],
+                       fd->waived ? " (waived)" : "") != ERR_OK)
+            o->bad = 1;
+    }
+    text(o, worst >= 0 ? rule_severity_name[worst] : NULL);
+    text(o, list->len ? list->data : NULL);
+    text(o, !c->baseline || !list->len ? NULL : any_new ? "new" : "unchanged");
+    uint_field(o, fails, 1);
+    end_row(o);
+}
+
+static int write_csv(const ReportCtx *c, FILE *fp)
+{
+    if (!c->prep || c->ncorners == 0)
+        return ERR_INPUT;
+    Out o = {fp, 1, 0};
+    for (size_t h = 0; h < sizeof head / sizeof head[0]; h++)
+        text(&o, head[h]);
+    end_row(&o);
+    Buf list = BUF_INIT;
+    size_t n = c->corners[0].joined->n;
+    for (size_t i = 0; i < n && !o.bad; i++)
+        for (size_t k = 0; k < c->ncorners; k++)
+            row(c, &o, i, k, &list);
+    buf_free(&list);
+    if (o.bad || fflush(fp) != 0 || ferror(fp))
+        return ERR_IO;
+    return ERR_OK;
+}
+
+const ReportWriter rep_csv_writer = {"csv", "csv", write_csv};
