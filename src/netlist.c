@@ -1019,6 +1019,11 @@ static int card_options(Parser *ps, uint32_t file, LexCur *c)
                    : word_is(text, w, "defw") ? &nl->opt_defw
                    : word_is(text, w, "defl") ? &nl->opt_defl
                                              : NULL;
+        if (o == &nl->opt_scale && (o->v.e || !isnan(o->v.v))) {
+            /* ngspice 39 keeps the first scale (and the last temp, defw, defl): checked with show m : w */
+            nl_warn(nl, file, w.off, (uint32_t)w.len, "a second .option scale is ignored, as ngspice 39 uses the first");
+            o = NULL;
+        }
         if (!o) {
             skip_value(c, 0);
             continue;
