@@ -41,7 +41,8 @@ typedef struct {
     const Model *mdl;    /* the resolved .model card, NULL when absent (type then MOS_UNKNOWN) */
     MosType type;
     double w, l;         /* metres, as written on the card after evaluation (W is total over fingers) */
-    double m;            /* multiplier: the card's m times every enclosing X card's m */
+    double m;            /* multiplier as ngspice 39 computes it: the card's m, or the calling X card's m
+                            where ngspice replaces it (not a product; flatten.c, mult_flags) */
     double nf;           /* fingers, 1 when not given */
     const char *nets[4]; /* d, g, s, b: hierarchical node names, interned ("x1.tail", "vdd", "0") */
     const char *cell;    /* subcircuit the card stands in, interned; NULL at top level */
