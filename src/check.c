@@ -21,8 +21,14 @@
 #include "buf.h"
 #include "groups.h"
 #include "report.h"
+#include "strtab.h"
 
 #define SAT_BITS ((1u << REGION_WEAK) | (1u << REGION_MODERATE) | (1u << REGION_STRONG))
+
+typedef struct {
+    const char *name;
+    size_t slot;
+} LitKey;
 
 /* One requirement of one device after resolution. */
 typedef struct {
@@ -67,6 +73,16 @@ typedef struct {
     size_t nws;
     size_t *cur;         /* the waivers that select the current device */
     size_t ncur, capcur;
+    /* which statements a device must try: those with a glob, regex or no name at all, and those
+       whose names are all written in full and include the device's (a hash index by name), so a
+       long list of named devices costs a lookup per device, not a comparison per statement */
+    size_t *always;      /* slots without a name index, ascending */
+    size_t nalways;
+    LitKey *lit;         /* (name, slot) of every fully written name, sorted */
+    size_t nlit;
+    size_t *ltab;        /* open addressing: index into lit of each name's first entry; SIZE_MAX empty */
+    size_t ltab_mask;
+    size_t *cand;        /* the slots the current device tries, ascending */
     int oom, limit;
 } Ctx;
 
@@ -652,14 +668,44 @@ static void check_row(Ctx *c, size_t i, const Row *r, const Need *need)
 
 /* The needs of dv: defaults, sized statements (recording selector hits), inline intents. The
  * waivers that select dv go to c->cur; groups collect it. */
+/* The slots dv must try, ascending, into c->cand; their number. */
+static size_t candidates(Ctx *c, const Device *dv)
+{
+    size_t lo = 0, hi = 0;
+    if (c->ltab && dv->name) {
+        uint64_t h = str_hash(dv->name, strlen(dv->name));
+        for (size_t p = (size_t)h & c->ltab_mask; c->ltab[p] != SIZE_MAX; p = (p + 1) & c->ltab_mask)
+            if (strcmp(c->lit[c->ltab[p]].name, dv->name) == 0) {
+                lo = hi = c->ltab[p];
+                while (hi < c->nlit && strcmp(c->lit[hi].name, dv->name) == 0)
+                    hi++;
+                break;
+            }
+    }
+    size_t n = 0, i = 0, j = lo;
+    while (i < c->nalways || j < hi) {
+        size_t v;
+        if (j >= hi || (i < c->nalways && c->always[i] < c->lit[j].slot))
+            v = c->always[i++];
+        else
+            v = c->lit[j++].slot;
+        if (n == 0 || c->cand[n - 1] != v) /* a name written twice in one statement */
+            c->cand[n++] = v;
+    }
+    return n;
+}
+
+/* The needs of dv: defaults, sized statements (recording selector hits), inline intents. The
+ * waivers that select dv go to c->cur; groups collect it. */
 static void resolve_and_select(Ctx *c, size_t row, const Device *dv, Need *need)
 {
     const RuleStatements *st = c->st;
+    size_t nc = candidates(c, dv), k = 0;
     need_init(c->rs, need);
-    for (size_t k = 0; k < st->nsized && !c->limit; k++)
-        if (sel_try(c, k, dv))
-            for (size_t q = 0; q < st->sized[k].nreqs; q++)
-                need_apply(c->rs, need, &st->sized[k].reqs[q]);
+    for (; k < nc && c->cand[k] < st->nsized && !c->limit; k++)
+        if (sel_try(c, c->cand[k], dv))
+            for (size_t q = 0; q < st->sized[c->cand[k]].nreqs; q++)
+                need_apply(c->rs, need, &st->sized[c->cand[k]].reqs[q]);
     size_t ne;
     const IntentEntry *e = intent_card(c->in, dv->card, &ne);
     for (size_t q = 0; q < ne; q++)
@@ -667,18 +713,23 @@ static void resolve_and_select(Ctx *c, size_t row, const Device *dv, Need *need)
             for (size_t z = 0; z < e[q].sized.nreqs; z++)
                 need_apply(c->rs, need, &e[q].sized.reqs[z]);
     need_finish(c->rs, need);
-    for (size_t g = 0; g < st->ngroups && !c->limit; g++)
-        if (sel_try(c, st->nsized + g, dv) &&
-            BUF_PUSH(c->members[g], c->nmembers[g], c->capmembers[g], row) != ERR_OK)
-            c->oom = 1;
     c->ncur = 0;
-    for (size_t w = 0; w < st->nwaivers && !c->limit; w++)
-        if (sel_try(c, st->nsized + st->ngroups + w, dv)) {
+    for (; k < nc && !c->limit; k++) {
+        size_t slot = c->cand[k];
+        if (!sel_try(c, slot, dv))
+            continue;
+        if (slot < st->nsized + st->ngroups) {
+            size_t g = slot - st->nsized;
+            if (BUF_PUSH(c->members[g], c->nmembers[g], c->capmembers[g], row) != ERR_OK)
+                c->oom = 1;
+        } else {
+            size_t w = slot - st->nsized - st->ngroups;
             if (c->ws[w].first_row == SIZE_MAX)
                 c->ws[w].first_row = row;
             if (BUF_PUSH(c->cur, c->ncur, c->capcur, w) != ERR_OK)
                 c->oom = 1;
         }
+    }
     if (c->in && ne) {
         size_t base = st->nwaivers + (size_t)(e - c->in->items);
         for (size_t q = 0; q < ne; q++)
@@ -1038,6 +1089,13 @@ static int sort_findings(Findings *o, size_t nrows)
 
 /* ---- public ---- */
 
+static int by_lit(const void *a, const void *b)
+{
+    const LitKey *x = a, *y = b;
+    int r = strcmp(x->name, y->name);
+    return r ? r : x->slot < y->slot ? -1 : x->slot > y->slot;
+}
+
 static void ctx_free(Ctx *c)
 {
     if (c->members)
@@ -1052,6 +1110,10 @@ static void ctx_free(Ctx *c)
     free(c->phits);
     free(c->ws);
     free(c->cur);
+    free(c->always);
+    free(c->lit);
+    free(c->ltab);
+    free(c->cand);
     rule_matcher_free(c->m);
     buf_free(&c->msg);
 }
@@ -1092,8 +1154,40 @@ static int ctx_init(Ctx *c, const RuleSet *rs, const IntentSet *in, const Design
     }
     c->pbase[c->nsel] = np;
     c->phits = calloc(np ? np : 1, sizeof *c->phits);
-    if (!c->phits)
+    c->always = malloc(ns * sizeof *c->always);
+    c->cand = malloc((ns + np) * sizeof *c->cand);
+    c->lit = malloc((np ? np : 1) * sizeof *c->lit);
+    if (!c->phits || !c->always || !c->cand || !c->lit)
         return ERR_NOMEM;
+    for (size_t k = 0; k < c->nsel; k++) {
+        const char *const *names;
+        size_t n;
+        if (rule_sel_listed(c->sel[k], &names, &n))
+            for (size_t q = 0; q < n; q++)
+                c->lit[c->nlit++] = (LitKey){names[q], k};
+        else
+            c->always[c->nalways++] = k;
+    }
+    if (c->nlit) {
+        qsort(c->lit, c->nlit, sizeof *c->lit, by_lit);
+        size_t cap = 16;
+        while (cap < 2 * c->nlit)
+            cap *= 2;
+        c->ltab = malloc(cap * sizeof *c->ltab);
+        if (!c->ltab)
+            return ERR_NOMEM;
+        for (size_t p = 0; p < cap; p++)
+            c->ltab[p] = SIZE_MAX;
+        c->ltab_mask = cap - 1;
+        for (size_t i = 0; i < c->nlit; i++) {
+            if (i && strcmp(c->lit[i].name, c->lit[i - 1].name) == 0)
+                continue;
+            size_t p = (size_t)str_hash(c->lit[i].name, strlen(c->lit[i].name)) & c->ltab_mask;
+            while (c->ltab[p] != SIZE_MAX)
+                p = (p + 1) & c->ltab_mask;
+            c->ltab[p] = i;
+        }
+    }
     for (size_t k = 0; k < c->nws; k++) {
         WState *s = &c->ws[k];
         s->first_row = s->first_hit_row = SIZE_MAX;
