@@ -6,6 +6,8 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "memhint.h"
+
 #define ARENA_MIN_BLOCK (64u * 1024u)
 #define ARENA_MAX_BLOCK (64u * 1024u * 1024u)
 #define ALIGN alignof(max_align_t)
@@ -41,6 +43,7 @@ void *arena_alloc(Arena *a, size_t n)
         ArenaBlock *b = malloc(sizeof(ArenaBlock) + size);
         if (!b)
             return NULL;
+        mem_hint_huge(b, sizeof(ArenaBlock) + size); /* the big blocks hold names read in random order */
         b->next = a->head;
         b->size = size;
         a->head = b;

@@ -5,10 +5,19 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "memhint.h"
+
+/* One slot: the string with its hash and length beside it, so that a probe touches one cache line
+ * (a table of millions of names is far larger than the caches; every probe is a miss). */
+typedef struct {
+    const char *s;       /* interned string, NULL when the slot is free */
+    uint32_t hash;       /* low 32 bits of its hash, to skip most comparisons */
+    uint32_t len;        /* its length, truncated to 32 bits (the byte comparison decides) */
+} Slot;
+
 struct StrTab {
     Arena *arena;
-    const char **slots;  /* power-of-two table of interned strings */
-    uint32_t *hashes;    /* low 32 bits of each slot's hash, to skip most strcmp calls */
+    Slot *slots;         /* power-of-two table */
     size_t cap, n;
 };
 
@@ -41,7 +50,6 @@ void str_free(StrTab *t)
     if (!t)
         return;
     free(t->slots);
-    free(t->hashes);
     free(t);
 }
 
@@ -61,8 +69,9 @@ static int same(const char *interned, const char *s, size_t n)
 static size_t probe(const StrTab *t, const char *s, size_t n, uint64_t h)
 {
     size_t mask = t->cap - 1, i = (size_t)h & mask;
-    uint32_t h32 = (uint32_t)h;
-    while (t->slots[i] && !(t->hashes[i] == h32 && same(t->slots[i], s, n)))
+    uint32_t h32 = (uint32_t)h, n32 = (uint32_t)n;
+    while (t->slots[i].s &&
+           !(t->slots[i].hash == h32 && t->slots[i].len == n32 && same(t->slots[i].s, s, n)))
         i = (i + 1) & mask;
     return i;
 }
@@ -70,27 +79,21 @@ static size_t probe(const StrTab *t, const char *s, size_t n, uint64_t h)
 static int grow(StrTab *t)
 {
     size_t ncap = t->cap ? t->cap * 2 : 256;
-    const char **slots = calloc(ncap, sizeof *slots);
-    uint32_t *hashes = calloc(ncap, sizeof *hashes);
-    if (!slots || !hashes) {
-        free(slots);
-        free(hashes);
+    Slot *slots = calloc(ncap, sizeof *slots);
+    if (!slots)
         return ERR_NOMEM;
-    }
+    mem_hint_huge(slots, ncap * sizeof *slots);
     for (size_t i = 0; i < t->cap; i++) {
-        if (!t->slots[i])
+        if (!t->slots[i].s)
             continue;
-        size_t j = t->hashes[i] & (ncap - 1);
+        size_t j = t->slots[i].hash & (ncap - 1);
         /* rehash from the stored low bits: ncap <= 2^32 slots is far beyond any netlist */
-        while (slots[j])
+        while (slots[j].s)
             j = (j + 1) & (ncap - 1);
         slots[j] = t->slots[i];
-        hashes[j] = t->hashes[i];
     }
     free(t->slots);
-    free(t->hashes);
     t->slots = slots;
-    t->hashes = hashes;
     t->cap = ncap;
     return ERR_OK;
 }
@@ -99,7 +102,7 @@ const char *str_lookup(const StrTab *t, const char *s, size_t n)
 {
     if (!t->cap)
         return NULL;
-    return t->slots[probe(t, s, n, str_hash(s, n))];
+    return t->slots[probe(t, s, n, str_hash(s, n))].s;
 }
 
 const char *str_intern(StrTab *t, const char *s, size_t n)
@@ -108,16 +111,15 @@ const char *str_intern(StrTab *t, const char *s, size_t n)
         return NULL;
     uint64_t h = str_hash(s, n);
     size_t i = probe(t, s, n, h);
-    if (t->slots[i])
-        return t->slots[i];
+    if (t->slots[i].s)
+        return t->slots[i].s;
     char *p = arena_alloc(t->arena, n + 1);
     if (!p)
         return NULL;
     for (size_t k = 0; k < n; k++)
         p[k] = (char)fold((unsigned char)s[k]);
     p[n] = '\0';
-    t->slots[i] = p;
-    t->hashes[i] = (uint32_t)h;
+    t->slots[i] = (Slot){p, (uint32_t)h, (uint32_t)n};
     t->n++;
     return p;
 }
@@ -142,6 +144,8 @@ static int map_grow(StrMap *m)
         free(vals);
         return ERR_NOMEM;
     }
+    mem_hint_huge(keys, ncap * sizeof *keys);
+    mem_hint_huge(vals, ncap * sizeof *vals);
     for (size_t i = 0; i < m->cap; i++) {
         if (!m->keys[i])
             continue;
