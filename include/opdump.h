@@ -43,7 +43,7 @@ typedef struct {
 typedef enum { OPFMT_AUTO = 0, OPFMT_SHOW, OPFMT_RAW, OPFMT_CSV } OpFormat;
 
 typedef struct {
-    SrcFile file;           /* the dump, read whole */
+    SrcFile file;           /* the dump, read whole; op_read releases its text once parsed (path stays) */
     OpFormat format;        /* the format actually read */
     Arena arena;
     StrTab *names;

@@ -390,6 +390,22 @@ done:
         op_free(t);
         return rc;
     }
+    /* Nothing reads the dump's text once it is parsed (records keep their lines, diagnostics copied
+       their excerpts), and it is the largest input of a big run: give it back, and the unused tail
+       of the record array with it. */
+    free(t->file.text);
+    free(t->file.lines);
+    t->file.text = NULL;
+    t->file.len = 0;
+    t->file.lines = NULL;
+    t->file.nlines = 0;
+    if (t->n && t->n < t->cap) {
+        OpRecord *fit = realloc(t->recs, t->n * sizeof *t->recs);
+        if (fit) {
+            t->recs = fit;
+            t->cap = t->n;
+        }
+    }
     *out = t;
     return ERR_OK;
 }
