@@ -737,7 +737,9 @@ static int parse_selector(Parser *p, size_t *i, int for_sep, int need_sep, const
         int which = is_word(t, "model") ? 1 : is_word(t, "cell") ? 2 : is_word(t, "name") ? 3 : 0;
         const Tok *v = t;
         if (which) {
-            if (k + 1 >= p->ntoks || p->toks[k + 1].kind != TK_WORD) {
+            int sep_next = for_sep && k + 2 < p->ntoks && is_word(&p->toks[k + 1], "for") &&
+                           p->toks[k + 2].kind == TK_COLON; /* `model for:` names no model */
+            if (k + 1 >= p->ntoks || p->toks[k + 1].kind != TK_WORD || sep_next) {
                 perr(p, t->col, span_of(t), "'%.*s' needs a %s after it", (int)t->n, t->s,
                      which == 1 ? "model name" : which == 2 ? "subcircuit name" : "device name");
                 goto out;
@@ -1343,7 +1345,10 @@ static int parse_req(Parser *p, size_t a, size_t b, uint32_t comma_col, Req *r)
         r->form = REQ_DROP;
         return 0;
     }
-    if (t->kind == TK_WORD && region_bits(t->s, t->n)) {
+    size_t head = 0; /* "weak/moderate": the part before a '/' */
+    while (head < t->n && t->s[head] != '/')
+        head++;
+    if (t->kind == TK_WORD && region_bits(t->s, head)) {
         r->check = CHECK_REGION;
         return parse_regions_req(p, ft, nft, 0, r);
     }
