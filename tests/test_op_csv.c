@@ -5,6 +5,7 @@
 
 #include <stdbool.h>
 
+#include "buf.h"
 #include "opdump.h"
 
 static char *slurp(const char *path, size_t *len)
@@ -261,11 +262,89 @@ static void test_all_errors(void **state)
     free(path);
 }
 
+/* Plain rows (no quote, one line) are split by the reader itself, the others by libcsv: the same
+ * rows with their name quoted (which forces libcsv and changes no value) must give the same records
+ * and the same diagnostics, blanks, tabs, empty fields and CRLF included. */
+static void test_plain_rows_as_libcsv(void **state)
+{
+    (void)state;
+    static const char *const rows[] = {
+        "mn1, 1e-3 ,\t2e-4\t,,0.5",
+        "mn2,,, \t ,",
+        "mn3,1,2,3,4\r",
+        "mn4,  -0 ,+5e-1,1e+2,",
+        "mn5, 1x ,2,3,4", /* a bad value: the same line and column either way */
+        "  mn6  ,7,,8,",
+    };
+    Buf plain = BUF_INIT, quoted = BUF_INIT;
+    assert_int_equal(buf_puts(&plain, "name,gm,id,gds,vth\n"), ERR_OK);
+    assert_int_equal(buf_puts(&quoted, "name,gm,id,gds,vth\n"), ERR_OK);
+    for (size_t i = 0; i < sizeof rows / sizeof rows[0]; i++) {
+        const char *r = rows[i], *comma = strchr(r, ',');
+        const char *ns = r, *ne = comma;
+        while (*ns == ' ')
+            ns++;
+        while (ne > ns && ne[-1] == ' ')
+            ne--;
+        assert_int_equal(buf_printf(&plain, "%s\n", r), ERR_OK);
+        assert_int_equal(buf_printf(&quoted, "\"%.*s\"%s\n", (int)(ne - ns), ns, comma), ERR_OK);
+    }
+    char *pa = tu_tmpfile("plain.csv", plain.data, plain.len), *pb = tu_tmpfile("quoted.csv", quoted.data, quoted.len);
+    DiagList da, db;
+    diag_init(&da);
+    diag_init(&db);
+    OpTable *ta = NULL, *tb = NULL;
+    assert_int_equal(op_read(pa, OPFMT_AUTO, &ta, &da), ERR_INPUT); /* mn5's value */
+    assert_int_equal(op_read(pb, OPFMT_AUTO, &tb, &db), ERR_INPUT);
+    assert_int_equal(da.n, db.n);
+    for (size_t i = 0; i < da.n; i++) {
+        assert_int_equal(da.items[i].sev, db.items[i].sev);
+        assert_int_equal(da.items[i].loc.line, db.items[i].loc.line);
+        assert_string_equal(da.items[i].msg, db.items[i].msg);
+    }
+    diag_free(&da);
+    diag_free(&db);
+    /* without the bad row both read: every value the same, bit for bit */
+    static const char bad[] = "mn5, 1x ,2,3,4\n";
+    char *at = strstr(plain.data, bad);
+    memmove(at, at + strlen(bad), strlen(at + strlen(bad)) + 1);
+    at = strstr(quoted.data, "\"mn5\", 1x ,2,3,4\n");
+    memmove(at, at + strlen(bad) + 2, strlen(at + strlen(bad) + 2) + 1);
+    free(pa);
+    free(pb);
+    pa = tu_tmpfile("plain2.csv", plain.data, strlen(plain.data));
+    pb = tu_tmpfile("quoted2.csv", quoted.data, strlen(quoted.data));
+    ta = read_ok(pa, OPFMT_AUTO, &da);
+    tb = read_ok(pb, OPFMT_AUTO, &db);
+    assert_int_equal(ta->n, 5);
+    assert_int_equal(tb->n, 5);
+    for (size_t i = 0; i < ta->n; i++) {
+        assert_string_equal(ta->recs[i].name, tb->recs[i].name);
+        assert_int_equal(ta->recs[i].loc.line, tb->recs[i].loc.line);
+        assert_memory_equal(ta->recs[i].q, tb->recs[i].q, sizeof ta->recs[i].q);
+    }
+    const OpRecord *r = op_find(ta, "mn1");
+    assert_true(r && r->q[OPQ_GM] == 1e-3 && r->q[OPQ_ID] == 2e-4 && isnan(r->q[OPQ_GDS]) && r->q[OPQ_VTH] == 0.5);
+    r = op_find(ta, "mn2");
+    assert_true(r && isnan(r->q[OPQ_GM]) && isnan(r->q[OPQ_ID]) && isnan(r->q[OPQ_GDS]) && isnan(r->q[OPQ_VTH]));
+    r = op_find(ta, "mn4");
+    assert_true(r && r->q[OPQ_GM] == 0.0 && signbit(r->q[OPQ_GM]) && r->q[OPQ_ID] == 0.5 && r->q[OPQ_GDS] == 100.0);
+    assert_non_null(op_find(ta, "mn6"));
+    op_free(ta);
+    op_free(tb);
+    diag_free(&da);
+    diag_free(&db);
+    buf_free(&plain);
+    buf_free(&quoted);
+    free(pa);
+    free(pb);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_mix),    cmocka_unit_test(test_alias),      cmocka_unit_test(test_forms),
-        cmocka_unit_test(test_errors), cmocka_unit_test(test_all_errors),
+        cmocka_unit_test(test_errors), cmocka_unit_test(test_all_errors), cmocka_unit_test(test_plain_rows_as_libcsv),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
