@@ -84,7 +84,9 @@ int lex_binary(const char *text, size_t len, size_t *off)
                 first = i;
         }
     }
-    if (bad && bad * 64 > n) {
+    /* at least 8: a few stray bytes in a short file are not binary (and stripping annotation lines,
+       which shortens the file, must not turn a netlist into "binary") */
+    if (bad >= 8 && bad * 64 > n) {
         *off = first;
         return 1;
     }

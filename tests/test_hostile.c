@@ -9,7 +9,8 @@
  *   settable, give located errors, and the device count is refused before expansion, in bounded time.
  * - Dump values: NaN, infinity, overflow and denormals, against the C library's strtod (C11 7.22.1.3;
  *   glibc rounds correctly) as the reference for the number conversion.
- * - Fuzz regressions: NUL bytes in quantity names and device names (show, raw, CSV). */
+ * - Fuzz regressions: NUL bytes in quantity names and device names (show, raw, CSV); stray control
+ *   bytes in a short netlist. */
 #include "testutil.h"
 
 #include <dirent.h>
@@ -21,6 +22,7 @@
 #include "check.h"
 #include "expr.h"
 #include "join.h"
+#include "lex.h"
 #include "netlist.h"
 #include "opdump.h"
 #include "rules.h"
@@ -642,6 +644,36 @@ static void test_raw_nul_in_name(void **state)
     free(path);
 }
 
+/* Fuzz regression (fuzz_netlist): a short netlist with two stray control bytes loaded, but once its
+ * annotation line was stripped (a shorter file, the same two bytes) it "looked binary", so the
+ * annotated netlist could not be annotated again. The input as the fuzzer found it. */
+static void test_stray_control_bytes(void **state)
+{
+    (void)state;
+    static const char x[] = "hand-written fuzz seed: hierch nmos le=2p \003mout i={dbs.lib\n.lib tt\n"
+                            ".mo1megdel nch nmos lev\017llevel=08 lmin\n*~ =1u lmax=10u\n.endl tt\n";
+    Buf s = BUF_INIT;
+    assert_int_equal(ann_strip(x, sizeof x - 1, &s), ERR_OK);
+    assert_true(s.len < sizeof x - 1);
+    char *p1 = tu_tmpfile("stray1.cir", x, sizeof x - 1), *p2 = tu_tmpfile("stray2.cir", s.data, s.len);
+    Design ds;
+    DiagList d;
+    diag_init(&d);
+    assert_int_equal(nl_load(p1, NULL, &ds, &d), ERR_OK);
+    nl_free(&ds);
+    assert_int_equal(nl_load(p2, NULL, &ds, &d), ERR_OK);
+    nl_free(&ds);
+    size_t off;
+    assert_false(lex_binary(s.data, s.len, &off));
+    /* eight control bytes in a short file still look binary */
+    assert_true(lex_binary("\001\002\003\004\005\006\007\010 m1 a b c d n", 21, &off));
+    assert_int_equal(off, 0);
+    diag_free(&d);
+    buf_free(&s);
+    free(p1);
+    free(p2);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -655,6 +687,7 @@ int main(void)
         cmocka_unit_test(test_dump_rows),
         cmocka_unit_test(test_raw_binary_extremes),
         cmocka_unit_test(test_raw_nul_in_name),
+        cmocka_unit_test(test_stray_control_bytes),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -9,16 +9,20 @@
 #include "rules.h"
 
 static Model models[] = {
-    {"nch", MOS_NMOS, 54, NAN, NAN, NAN, 0, 0},
-    {"pch_lvt", MOS_PMOS, 54, NAN, NAN, NAN, 0, 0},
-    {"nch.3", MOS_NMOS, 14, NAN, NAN, NAN, 0, 0},
+    {.name = "nch", .type = MOS_NMOS, .level = 54, .cgso = NAN, .cgdo = NAN, .cgbo = NAN},
+    {.name = "pch_lvt", .type = MOS_PMOS, .level = 54, .cgso = NAN, .cgdo = NAN, .cgbo = NAN},
+    {.name = "nch.3", .type = MOS_NMOS, .level = 14, .cgso = NAN, .cgdo = NAN, .cgbo = NAN},
 };
 
 static Device devices[] = {
-    {"m1", "nch", &models[0], MOS_NMOS, 1e-6, 1e-7, 1, 1, {"d", "g", "s", "b"}, NULL, 0},
-    {"x1.xamp.m3", "pch_lvt", &models[1], MOS_PMOS, 2e-6, 1e-7, 2, 2, {"x1.o", "x1.i", "vdd", "vdd"}, "amp", 0},
-    {"x2.mtail", "nch", &models[2], MOS_NMOS, 4e-6, 5e-7, 1, 1, {"x2.t", "bias", "0", "0"}, "ota", 0},
-    {"m.odd", "nomodel", NULL, MOS_UNKNOWN, 1e-6, 1e-6, 1, 1, {"a", "b", "c", "d"}, NULL, 0},
+    {.name = "m1", .model = "nch", .mdl = &models[0], .type = MOS_NMOS, .w = 1e-6, .l = 1e-7, .m = 1, .nf = 1,
+     .nets = {"d", "g", "s", "b"}},
+    {.name = "x1.xamp.m3", .model = "pch_lvt", .mdl = &models[1], .type = MOS_PMOS, .w = 2e-6, .l = 1e-7, .m = 2,
+     .nf = 2, .nets = {"x1.o", "x1.i", "vdd", "vdd"}, .cell = "amp"},
+    {.name = "x2.mtail", .model = "nch", .mdl = &models[2], .type = MOS_NMOS, .w = 4e-6, .l = 5e-7, .m = 1, .nf = 1,
+     .nets = {"x2.t", "bias", "0", "0"}, .cell = "ota"},
+    {.name = "m.odd", .model = "nomodel", .type = MOS_UNKNOWN, .w = 1e-6, .l = 1e-6, .m = 1, .nf = 1,
+     .nets = {"a", "b", "c", "d"}},
 };
 
 #define NDEV (sizeof devices / sizeof devices[0])

@@ -15,8 +15,11 @@ for t in "$@"; do
     dict=
     [ -f "$here/$t.dict" ] && dict="-dict=$here/$t.dict"
     log="$fb/log/$t.log"
-    # -timeout: one input may take 10 s at most (a hang is a bug); -rss_limit_mb: 2 GiB of memory
-    "$fb/fuzz_$t" -max_total_time="$secs" -timeout=10 -rss_limit_mb=2048 -max_len=16384 -print_final_stats=1 \
+    # -timeout: one input may take 10 s at most (a hang is a bug); -rss_limit_mb: 2 GiB of memory;
+    # -max_len: netlists are loaded, flattened and annotated twice per input, so they stay shorter
+    maxlen=16384
+    [ "$t" = netlist ] && maxlen=4096
+    "$fb/fuzz_$t" -max_total_time="$secs" -timeout=10 -rss_limit_mb=2048 -max_len=$maxlen -print_final_stats=1 \
         -artifact_prefix="$fb/artifacts/$t-" $dict "$fb/corpus/$t" >"$log" 2>&1
     rc=$?
     execs=$(sed -n 's/^stat::number_of_executed_units: *//p' "$log" | tail -1)
