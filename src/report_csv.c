@@ -21,7 +21,7 @@ static const char *const head[] = {
 typedef struct {
     FILE *fp;
     int first;  /* no separator before the first field of a row */
-    int bad;
+    int bad;    /* ERR_OK, or ERR_IO / ERR_NOMEM: the first failure */
 } Out;
 
 static void sep(Out *o)
@@ -34,8 +34,8 @@ static void sep(Out *o)
 static void text(Out *o, const char *s)
 {
     sep(o);
-    if (s && csv_fwrite(o->fp, s, strlen(s)) != 0)
-        o->bad = 1;
+    if (s && csv_fwrite(o->fp, s, strlen(s)) != 0 && !o->bad)
+        o->bad = ERR_IO;
 }
 
 static void num(Out *o, double v)
@@ -108,7 +108,7 @@ static void row(const ReportCtx *c, Out *o, size_t i, size_t k, Buf *list)
         if ((list->len && buf_puts(list, "; ") != ERR_OK) ||
             buf_printf(list, "%s:%s%s", rep_check_name((int)fd->check), rule_severity_name[fd->sev],
                        fd->waived ? " (waived)" : "") != ERR_OK)
-            o->bad = 1;
+            o->bad = ERR_NOMEM;
     }
     text(o, worst >= 0 ? rule_severity_name[worst] : NULL);
     text(o, list->len ? list->data : NULL);
@@ -121,7 +121,7 @@ static int write_csv(const ReportCtx *c, FILE *fp)
 {
     if (!c->prep || c->ncorners == 0)
         return ERR_INPUT;
-    Out o = {fp, 1, 0};
+    Out o = {fp, 1, ERR_OK};
     for (size_t h = 0; h < sizeof head / sizeof head[0]; h++)
         text(&o, head[h]);
     end_row(&o);
@@ -131,6 +131,8 @@ static int write_csv(const ReportCtx *c, FILE *fp)
         for (size_t k = 0; k < c->ncorners; k++)
             row(c, &o, i, k, &list);
     buf_free(&list);
+    if (o.bad == ERR_NOMEM)
+        return ERR_NOMEM;
     if (o.bad || fflush(fp) != 0 || ferror(fp))
         return ERR_IO;
     return ERR_OK;

@@ -359,7 +359,7 @@ static void plot_gmid_gain(const ReportCtx *c, FILE *fp)
         yhi = fmax(yhi, gain_limit);
     }
     ylo = pow(10.0, floor(log10(fmax(ylo, 1e-3))));
-    yhi = pow(10.0, ceil(log10(fmin(fmax(yhi, ylo * 10.0), 1e7))));
+    yhi = pow(10.0, ceil(log10(fmin(fmax(yhi * 1.5, ylo * 10.0), 1e7)))); /* room above the highest point */
     if (yhi <= ylo)
         yhi = ylo * 10.0;
     SvgAxis xa = {xlo, xhi, 0, 70.0, PW - 18.0}, ya = {ylo, yhi, 1, PH - 56.0, 14.0};
@@ -588,9 +588,14 @@ static void plot_headroom(const ReportCtx *c, FILE *fp)
           "<span><i style=\"background:#8fbf9a\"></i>above its limit</span>"
           "<span><i style=\"border-radius:0;width:2px;background:#1f2a33\"></i>a limit of its own</span></div>\n",
           fp);
-    fprintf(fp, "<p class=\"note\">The %zu device%s with the least headroom, of %zu with VDS and VDSAT in the data; "
-                "the device table lists every one.</p>\n</figure>\n",
-            nb, c->ncorners > 1 ? "-corners" : "s", with);
+    if (nb == with)
+        fprintf(fp, "<p class=\"note\">All %zu device%s with VDS and VDSAT in the data, least headroom first.</p>\n"
+                    "</figure>\n",
+                nb, c->ncorners > 1 ? "-corners" : "s");
+    else
+        fprintf(fp, "<p class=\"note\">The %zu device%s with the least headroom, of %zu with VDS and VDSAT in the "
+                    "data; the device table lists every one.</p>\n</figure>\n",
+                nb, c->ncorners > 1 ? "-corners" : "s", with);
 }
 
 /* The plots in page order. A lookup-table plot (gm/ID against ID/W for the channel lengths in use,
@@ -740,7 +745,7 @@ static void baseline(const ReportCtx *c, FILE *fp)
             esc(fp, o->corner);
             fputs("</td><td>", fp);
             esc(fp, o->message);
-            fputs("</td><td>", fp);
+            fputs("</td><td class=\"nw\">", fp);
             place(fp, o->file, o->line);
             fputs("</td></tr>\n", fp);
         }
