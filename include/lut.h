@@ -90,10 +90,14 @@ typedef struct {
 
 /* Interpolate every quantity at (l, vgs, vds, vsb) (n-type convention). Returns 0 when the point
  * lies inside the grid, else a bit mask (1 << LutAxis) of the axes it falls outside of; then every
- * value is NaN: a table never extrapolates. Scheme (see lut.c): piecewise cubic Hermite along each
- * axis with slopes from three-point differences, L taken as log(L), positive currents and
- * conductances interpolated as logarithms. */
+ * value is NaN: a table never extrapolates. Scheme (see lut.c): piecewise cubic Hermite along VGS
+ * and VDS with slopes from three-point differences, linear along log(L) and VSB, positive currents
+ * and conductances interpolated as logarithms. */
 unsigned lut_eval(const Lut *t, double l, double vgs, double vds, double vsb, LutVals *out);
+
+/* gm/ID alone at (l, vgs, vds, vsb), as lut_eval computes it, and ID for the reference width when id
+ * is not NULL: the fast path (inverse lookups, sweeps). Returns the miss bits of lut_eval; NaN then. */
+unsigned lut_eval_gmid(const Lut *t, double l, double vgs, double vds, double vsb, double *gm_id, double *id);
 
 /* Results of lut_vgs_for_gmid. */
 enum {

@@ -30,12 +30,11 @@ static const double ax_l[] = {0.5e-6, 1e-6, 2e-6, 4e-6, 9e-6};
 static const double ax_sb[] = {0, 0.2, 0.5, 0.9};
 static double ax_ds[11], ax_gs[21];
 
-/* Per-axis quadratics (tensor products of quadratics in log L, VSB, VDS, VGS). */
+/* What the scheme reproduces: linear in log L and in VSB, quadratic in VDS and VGS (tensor products). */
 static double quad(double l, double sb, double ds, double gs)
 {
     double x = log(l * 1e6);
-    return (1 + 0.3 * x - 0.05 * x * x) * (1 - 0.4 * sb + 0.1 * sb * sb) * (0.5 + 0.2 * ds - 0.08 * ds * ds) *
-           (0.2 + gs + 0.7 * gs * gs);
+    return (1 + 0.3 * x) * (1 - 0.4 * sb) * (0.5 + 0.2 * ds - 0.08 * ds * ds) * (0.2 + gs + 0.7 * gs * gs);
 }
 static double lnid(double l, double sb, double ds, double gs)
 {
@@ -79,9 +78,10 @@ static void synth(LutInfo *in, double **vals, int zero_at_vds0)
                 }
 }
 
-/* Cubic Hermite with three-point (parabola) slopes reproduces a quadratic exactly, so the tensor
- * scheme reproduces per-axis quadratics, and exponentials of them in the log-interpolated
- * quantities (a property of the scheme; common practice, no source). */
+/* Cubic Hermite with three-point (parabola) slopes reproduces a quadratic exactly, linear
+ * interpolation a linear function; so the tensor scheme (cubic along VGS and VDS, linear along log L
+ * and VSB) reproduces such products, and exponentials of them in the log-interpolated quantities (a
+ * property of the scheme; common practice, no source). */
 static void test_quadratics_exact(void **state)
 {
     (void)state;
@@ -97,14 +97,18 @@ static void test_quadratics_exact(void **state)
         double sb = 0.9 * urand(), ds = urand(), gs = urand();
         LutVals v;
         assert_int_equal(lut_eval(t, l, gs, ds, sb, &v), 0);
-        assert_close(v.q[LUTQ_VTH], quad(l, sb, ds, gs), 1e-11);
-        assert_close(v.q[LUTQ_CGG], 1e-15 * quad(l, sb, ds, gs), 1e-11);
-        assert_close(v.q[LUTQ_VDSAT], 0.1 + 0.5 * gs * gs - 0.1 * sb, 1e-11);
-        assert_close(log(v.q[LUTQ_ID]), lnid(l, sb, ds, gs), 1e-12);
-        assert_close(v.gm_id, exp(-1.0), 1e-11);
-        assert_close(v.gain, exp(2.0), 1e-11);
+        /* exact up to the table's float storage (7 significant digits) */
+        assert_close(v.q[LUTQ_VTH], quad(l, sb, ds, gs), 2e-6);
+        assert_close(v.q[LUTQ_CGG], 1e-15 * quad(l, sb, ds, gs), 2e-6);
+        assert_close(v.q[LUTQ_VDSAT], 0.1 + 0.5 * gs * gs - 0.1 * sb, 2e-6);
+        assert_close(log(v.q[LUTQ_ID]), lnid(l, sb, ds, gs), 1e-6);
+        assert_close(v.gm_id, exp(-1.0), 5e-5);
+        assert_close(v.gain, exp(2.0), 5e-5);
         assert_close(v.id_w, v.q[LUTQ_ID] / 1e-6, 1e-14);
         assert_close(v.ft, v.q[LUTQ_GM] / (6.283185307179586 * v.q[LUTQ_CGG]), 1e-12);
+        double g, id;
+        assert_int_equal(lut_eval_gmid(t, l, gs, ds, sb, &g, &id), 0);
+        assert_true(g == v.gm_id && id == v.q[LUTQ_ID]); /* the fast path is the same arithmetic */
         assert_true(isnan(v.q[LUTQ_GMBS]) && isnan(v.q[LUTQ_CGS])); /* absent columns stay absent */
     }
     /* the nodes themselves come back as they are */
@@ -115,8 +119,8 @@ static void test_quadratics_exact(void **state)
                 for (int g = 0; g < 21; g++, k++) {
                     LutVals v;
                     assert_int_equal(lut_eval(t, ax_l[a], ax_gs[g], ax_ds[c], ax_sb[b], &v), 0);
-                    assert_close(v.q[LUTQ_ID], vals[k * LUTQ_COUNT + LUTQ_ID], 1e-12);
-                    assert_close(v.q[LUTQ_VTH], vals[k * LUTQ_COUNT + LUTQ_VTH], 1e-12);
+                    assert_close(v.q[LUTQ_ID], vals[k * LUTQ_COUNT + LUTQ_ID], 1e-6);
+                    assert_close(v.q[LUTQ_VTH], vals[k * LUTQ_COUNT + LUTQ_VTH], 1e-6);
                 }
     lut_free(t);
     free(vals);
@@ -144,7 +148,7 @@ static void test_zero_current_fallback(void **state)
     assert_true(isfinite(v.q[LUTQ_ID]) && v.q[LUTQ_ID] > 0 && v.q[LUTQ_ID] < hi);
     /* far from VDS = 0 the logarithmic scheme is back */
     assert_int_equal(lut_eval(t, 1e-6, 0.5, 0.55, 0.2, &v), 0);
-    assert_close(log(v.q[LUTQ_ID]), lnid(1e-6, 0.2, 0.55, 0.5), 1e-12);
+    assert_close(log(v.q[LUTQ_ID]), lnid(1e-6, 0.2, 0.55, 0.5), 2e-7);
     lut_free(t);
     free(vals);
     diag_free(&d);
@@ -303,7 +307,7 @@ static void test_write_load_roundtrip(void **state)
         assert_int_equal(lut_eval(m, l, gs, ds, sb, &b), 0);
         for (int q = 0; q < LUTQ_COUNT; q++)
             if (isfinite(b.q[q]))
-                assert_close(a.q[q], b.q[q], 1e-8); /* 10 significant digits in the file */
+                assert_close(a.q[q], b.q[q], 2e-6); /* 10 digits in the file, floats in memory */
     }
     assert_int_equal(d.nerrors, 0);
     lut_free(t);
@@ -328,7 +332,7 @@ static void test_load_good_fixture(void **state)
     assert_int_equal(in->have, LUT_REQUIRED);
     LutVals v;
     assert_int_equal(lut_eval(t, 1e-6, 0.8, 0.5, 0, &v), 0);
-    assert_close(v.q[LUTQ_ID], 9.225e-06, 1e-12); /* the file's row for (1u, 0, 0.5, 0.8) */
+    assert_close(v.q[LUTQ_ID], 9.225e-06, 1e-6); /* the file's row for (1u, 0, 0.5, 0.8) */
     assert_int_equal(d.n, 0);
     lut_free(t);
     diag_free(&d);
@@ -537,8 +541,8 @@ static void test_nch_inverse(void **state)
         int rc = lut_vgs_for_gmid(nch_table, 1e-6, 0.9, 0.2, target[i], &vgs, &v, &lim);
         assert_int_equal(rc, LUT_INV_OK);
         assert_int_equal(lut_eval(nch_table, 1e-6, vgs, 0.9, 0.2, &f), 0);
-        assert_close(f.gm_id, target[i], 1e-9);
-        assert_close(v.gm_id, target[i], 1e-9);
+        assert_close(f.gm_id, target[i], 1e-6);
+        assert_close(v.gm_id, target[i], 1e-6);
         p[i] = (RefPoint){1e-6, vgs, 0.9, 0.2, 0};
     }
     char *dir = ref_dir();
@@ -595,7 +599,7 @@ static void test_level1_square_law(void **state)
         for (size_t i = 0; i < sizeof vgs / sizeof vgs[0]; i++) {
             LutVals v;
             assert_int_equal(lut_eval(t, l[li], vgs[i], 1.2137, 0, &v), 0);
-            assert_close(v.q[LUTQ_VTH], 0.5, 1e-9); /* von = vto at VSB = 0 */
+            assert_close(v.q[LUTQ_VTH], 0.5, 1e-6); /* von = vto at VSB = 0 */
             assert_close(v.gm_id, 2 / (vgs[i] - 0.5), 0.005);
         }
     /* below threshold a level-1 device has no channel (what id shows there is the junction's gmin
