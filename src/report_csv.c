@@ -11,6 +11,7 @@
 #include <string.h>
 
 #include "buf.h"
+#include "numfmt.h"
 
 static const char *const head[] = {
     "corner", "device", "model", "type", "cell", "w", "l", "m", "nf", "file", "line", "has_data", "id",
@@ -18,24 +19,34 @@ static const char *const head[] = {
     "margin", "region", "swapped", "worst_severity", "findings", "baseline", "fails",
 };
 
+/* A row is built in memory (text fields quoted by libcsv's csv_write) and written in one call: a
+ * report of a million devices has tens of millions of fields. */
 typedef struct {
     FILE *fp;
+    Buf line;   /* the row being built */
     int first;  /* no separator before the first field of a row */
     int bad;    /* ERR_OK, or ERR_IO / ERR_NOMEM: the first failure */
 } Out;
 
 static void sep(Out *o)
 {
-    if (!o->first)
-        fputc(',', o->fp);
+    if (!o->first && buf_putc(&o->line, ',') != ERR_OK)
+        o->bad = ERR_NOMEM;
     o->first = 0;
 }
 
 static void text(Out *o, const char *s)
 {
     sep(o);
-    if (s && csv_fwrite(o->fp, s, strlen(s)) != 0 && !o->bad)
-        o->bad = ERR_IO;
+    if (!s)
+        return;
+    size_t len = strlen(s), need = 2 * len + 2; /* every byte a quote, doubled, and the two around */
+    if (buf_reserve(&o->line, need) != ERR_OK) {
+        o->bad = ERR_NOMEM;
+        return;
+    }
+    o->line.len += csv_write(o->line.data + o->line.len, need, s, len);
+    o->line.data[o->line.len] = '\0';
 }
 
 static void num(Out *o, double v)
@@ -43,25 +54,25 @@ static void num(Out *o, double v)
     sep(o);
     if (!isfinite(v))
         return;
-    char buf[40];
-    for (int prec = 15; prec <= 17; prec++) {
-        snprintf(buf, sizeof buf, "%.*g", prec, v);
-        if (prec == 17 || strtod(buf, NULL) == v)
-            break;
-    }
-    fputs(buf, o->fp);
+    char buf[NUMFMT_SIZE];
+    if (buf_append(&o->line, buf, numfmt_json(buf, v)) != ERR_OK) /* the fewest digits that read back */
+        o->bad = ERR_NOMEM;
 }
 
 static void uint_field(Out *o, size_t v, int present)
 {
     sep(o);
-    if (present)
-        fprintf(o->fp, "%zu", v);
+    if (present && buf_printf(&o->line, "%zu", v) != ERR_OK)
+        o->bad = ERR_NOMEM;
 }
 
 static void end_row(Out *o)
 {
-    fputc('\n', o->fp);
+    if (buf_putc(&o->line, '\n') != ERR_OK)
+        o->bad = ERR_NOMEM;
+    if (o->line.len && fwrite(o->line.data, 1, o->line.len, o->fp) != o->line.len && !o->bad)
+        o->bad = ERR_IO;
+    buf_clear(&o->line);
     o->first = 1;
 }
 
@@ -121,7 +132,7 @@ static int write_csv(const ReportCtx *c, FILE *fp)
 {
     if (!c->prep || c->ncorners == 0)
         return ERR_INPUT;
-    Out o = {fp, 1, ERR_OK};
+    Out o = {fp, BUF_INIT, 1, ERR_OK};
     for (size_t h = 0; h < sizeof head / sizeof head[0]; h++)
         text(&o, head[h]);
     end_row(&o);
@@ -131,6 +142,7 @@ static int write_csv(const ReportCtx *c, FILE *fp)
         for (size_t k = 0; k < c->ncorners; k++)
             row(c, &o, i, k, &list);
     buf_free(&list);
+    buf_free(&o.line);
     if (o.bad == ERR_NOMEM)
         return ERR_NOMEM;
     if (o.bad || fflush(fp) != 0 || ferror(fp))

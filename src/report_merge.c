@@ -9,6 +9,7 @@
 #include <string.h>
 
 #include "buf.h"
+#include "numfmt.h"
 #include "report.h"
 #include "svgplot.h"
 
@@ -242,8 +243,9 @@ static void text(Out *o, const char *s)
 static void num(Out *o, double v)
 {
     field_sep(o);
+    char b[NUMFMT_SIZE];
     if (isfinite(v))
-        fprintf(o->fp, "%.17g", v);
+        fwrite(b, 1, numfmt_json(b, v), o->fp); /* the fewest digits that read back */
 }
 
 static int write_csv(const MrgResult *m, FILE *fp, int color)
