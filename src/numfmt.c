@@ -41,23 +41,40 @@ static const uint64_t pow10_u64[20] = {
     10000000000000000000ull,
 };
 
+static const char pairs[201] = "00010203040506070809101112131415161718192021222324252627282930313233343536373839"
+                               "40414243444546474849505152535455565758596061626364656667686970717273747576777879"
+                               "8081828384858687888990919293949596979899";
+
+/* The 8 digits of v < 10^8 at d: two independent halves of 32-bit arithmetic, which is where the
+ * time of a long number goes (a chain of 64-bit divisions is twice as long). */
+static inline void put8(char *d, uint32_t v)
+{
+    uint32_t hi = v / 10000, lo = v % 10000;
+    memcpy(d, pairs + 2 * (hi / 100), 2);
+    memcpy(d + 2, pairs + 2 * (hi % 100), 2);
+    memcpy(d + 4, pairs + 2 * (lo / 100), 2);
+    memcpy(d + 6, pairs + 2 * (lo % 100), 2);
+}
+
 /* The digits of q (exactly p of them, p <= 19) in %g style with decimal exponent x of the first
  * digit: trailing zeros dropped, scientific notation when x < -4 or x >= p. */
 static size_t format_g(char *buf, int neg, uint64_t q, int p, int x)
 {
-    static const char pairs[201] = "00010203040506070809101112131415161718192021222324252627282930313233343536373839"
-                                   "40414243444546474849505152535455565758596061626364656667686970717273747576777879"
-                                   "8081828384858687888990919293949596979899";
-    char dig[20];
+    char dig[24];
     int pos = p;
+    while (pos > 8) {
+        put8(dig + pos - 8, (uint32_t)(q % 100000000u));
+        q /= 100000000u;
+        pos -= 8;
+    }
+    uint32_t r = (uint32_t)q;
     while (pos >= 2) {
-        unsigned r = (unsigned)(q % 100);
-        q /= 100;
-        dig[--pos] = pairs[2 * r + 1];
-        dig[--pos] = pairs[2 * r];
+        pos -= 2;
+        memcpy(dig + pos, pairs + 2 * (r % 100), 2);
+        r /= 100;
     }
     if (pos)
-        dig[0] = (char)('0' + q);
+        dig[0] = (char)('0' + r);
     int nd = p;
     while (nd > 1 && dig[nd - 1] == '0')
         nd--;
