@@ -26,15 +26,20 @@ size_t str_count(const StrTab *t);
 /* FNV-1a over the lower-cased bytes: the hash every name table in biaslint uses. */
 uint64_t str_hash(const char *s, size_t n);
 
-/* StrMap: interned name -> uint32 value, open addressing, keyed by pointer. */
+/* StrMap: interned name -> uint32 value, open addressing, keyed by pointer. A key and its value share
+ * one slot, so a lookup in a map of millions of names is one cache miss. */
 typedef struct {
-    const char **keys;
-    uint32_t *vals;
+    const char *key;  /* NULL: a free slot */
+    uint32_t val;
+} StrMapSlot;
+
+typedef struct {
+    StrMapSlot *slots;
     size_t cap;  /* power of two, 0 when empty */
     size_t n;
 } StrMap;
 
-#define STRMAP_INIT {NULL, NULL, 0, 0}
+#define STRMAP_INIT {NULL, 0, 0}
 
 /* Insert or replace. ERR_OK or ERR_NOMEM (map unchanged). */
 int strmap_put(StrMap *m, const char *key, uint32_t val) MUST_CHECK;

@@ -137,28 +137,20 @@ static inline size_t ptr_hash(const char *p)
 static int map_grow(StrMap *m)
 {
     size_t ncap = m->cap ? m->cap * 2 : 64;
-    const char **keys = calloc(ncap, sizeof *keys);
-    uint32_t *vals = malloc(ncap * sizeof *vals);
-    if (!keys || !vals) {
-        free(keys);
-        free(vals);
+    StrMapSlot *slots = calloc(ncap, sizeof *slots);
+    if (!slots)
         return ERR_NOMEM;
-    }
-    mem_hint_huge(keys, ncap * sizeof *keys);
-    mem_hint_huge(vals, ncap * sizeof *vals);
+    mem_hint_huge(slots, ncap * sizeof *slots);
     for (size_t i = 0; i < m->cap; i++) {
-        if (!m->keys[i])
+        if (!m->slots[i].key)
             continue;
-        size_t j = ptr_hash(m->keys[i]) & (ncap - 1);
-        while (keys[j])
+        size_t j = ptr_hash(m->slots[i].key) & (ncap - 1);
+        while (slots[j].key)
             j = (j + 1) & (ncap - 1);
-        keys[j] = m->keys[i];
-        vals[j] = m->vals[i];
+        slots[j] = m->slots[i];
     }
-    free(m->keys);
-    free(m->vals);
-    m->keys = keys;
-    m->vals = vals;
+    free(m->slots);
+    m->slots = slots;
     m->cap = ncap;
     return ERR_OK;
 }
@@ -168,13 +160,13 @@ int strmap_put(StrMap *m, const char *key, uint32_t val)
     if ((m->n + 1) * 4 > m->cap * 3 && map_grow(m) != ERR_OK)
         return ERR_NOMEM;
     size_t mask = m->cap - 1, i = ptr_hash(key) & mask;
-    while (m->keys[i] && m->keys[i] != key)
+    while (m->slots[i].key && m->slots[i].key != key)
         i = (i + 1) & mask;
-    if (!m->keys[i]) {
-        m->keys[i] = key;
+    if (!m->slots[i].key) {
+        m->slots[i].key = key;
         m->n++;
     }
-    m->vals[i] = val;
+    m->slots[i].val = val;
     return ERR_OK;
 }
 
@@ -183,10 +175,10 @@ int strmap_get(const StrMap *m, const char *key, uint32_t *val)
     if (!m->cap || !key)
         return 0;
     size_t mask = m->cap - 1, i = ptr_hash(key) & mask;
-    while (m->keys[i]) {
-        if (m->keys[i] == key) {
+    while (m->slots[i].key) {
+        if (m->slots[i].key == key) {
             if (val)
-                *val = m->vals[i];
+                *val = m->slots[i].val;
             return 1;
         }
         i = (i + 1) & mask;
@@ -198,9 +190,7 @@ void strmap_free(StrMap *m)
 {
     if (!m)
         return;
-    free(m->keys);
-    free(m->vals);
-    m->keys = NULL;
-    m->vals = NULL;
+    free(m->slots);
+    m->slots = NULL;
     m->cap = m->n = 0;
 }
