@@ -68,6 +68,11 @@ hostile: $(BUILD)/biaslint
 
 test: all unit integration hostile
 
+# Performance (tests/bench/bench.sh, not part of test): generated designs of 10k to 1M MOSFETs timed
+# against `wc -l` on the same files and a Python peer, with peak RSS and the floors; inputs in build/bench/.
+bench: $(BUILD)/biaslint
+	bash tests/bench/bench.sh $(BUILD)
+
 # The whole suite again, under AddressSanitizer and UndefinedBehaviorSanitizer, in its own build tree.
 sanitize:
 	$(MAKE) BUILD=build/sanitize CFLAGS="-O1 -g -fsanitize=address,undefined -fno-omit-frame-pointer -fno-sanitize-recover=all" \
