@@ -47,7 +47,8 @@ int lex_next(Lexer *lx, LexLine *ln);
 size_t lex_bom(const char *text, size_t len);
 
 /* 1 when text looks like a binary file rather than a netlist: it holds a NUL byte, or more than 1 in
- * 64 of its first 64 KiB (and at least 8) are control bytes other than TAB, LF, VT, FF, CR and ESC. *off is then the
+ * 64 of its first 64 KiB (and at least 8) are control bytes other than TAB, LF, VT, FF, CR and ESC;
+ * annotation lines ("*~", biaslint's own) are not counted. *off is then the
  * offset of the first NUL (or of the first such control byte). 0 otherwise. */
 int lex_binary(const char *text, size_t len, size_t *off);
 

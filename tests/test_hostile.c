@@ -665,6 +665,20 @@ static void test_stray_control_bytes(void **state)
     nl_free(&ds);
     size_t off;
     assert_false(lex_binary(s.data, s.len, &off));
+    /* the second such input: sixteen control bytes, near the 1 in 64 limit, in a file whose
+       annotation line made the difference; annotation lines no longer count either way */
+    Buf t = BUF_INIT;
+    assert_int_equal(buf_puts(&t, "* title\n*~ an annotation line of biaslint's, ninety-some bytes long, "
+                                  "that stripping takes away .........\n"), ERR_OK);
+    for (int i = 0; i < 16; i++)
+        assert_int_equal(buf_putc(&t, '\005'), ERR_OK);
+    while (t.len < 16 * 64 + 40)
+        assert_int_equal(buf_puts(&t, "\n* filler"), ERR_OK);
+    Buf u = BUF_INIT;
+    assert_int_equal(ann_strip(t.data, t.len, &u), ERR_OK);
+    assert_int_equal(lex_binary(t.data, t.len, &off), lex_binary(u.data, u.len, &off));
+    buf_free(&t);
+    buf_free(&u);
     /* eight control bytes in a short file still look binary */
     assert_true(lex_binary("\001\002\003\004\005\006\007\010 m1 a b c d n", 21, &off));
     assert_int_equal(off, 0);
