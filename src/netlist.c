@@ -27,6 +27,10 @@ static int vreport(Netlist *nl, DiagSeverity sev, uint32_t file, size_t off, uin
 {
     if (sev == DIAG_ERROR)
         nl->nerrors++;
+    /* past the list's limit a diagnostic is only counted: skip the scans for its line, which on a long
+       line with an error in every word would take time quadratic in the line's length */
+    if (nl->d->dropped)
+        return diag_add(nl->d, sev, (SrcLoc){0}, "%s", "");
     Buf msg = BUF_INIT;
     if (buf_vprintf(&msg, fmt, ap) != ERR_OK)
         return diag_nomem(nl->d);

@@ -68,9 +68,13 @@ typedef struct {
     bool oom;
 } Csv;
 
-/* Offset of field k of the row that starts at row_off (quotes respected); only for messages. */
+/* Offset of field k of the row that starts at row_off (quotes respected); only for messages, so once
+ * diagnostics are being dropped (the list is full) it does not scan: a wide row with an error in
+ * every field would otherwise take time quadratic in its length. */
 static size_t field_off(const Csv *c, size_t k)
 {
+    if (c->d->dropped)
+        return c->row_off;
     size_t off = c->row_off, f = 0;
     bool q = false;
     while (off < c->len && f < k) {
@@ -114,6 +118,10 @@ static void PRINTF_LIKE(5, 6) report(Csv *c, DiagSeverity sev, size_t off, uint3
     if (sev == DIAG_ERROR) {
         c->nerr++;
         c->row_bad = true;
+    }
+    if (c->d->dropped) { /* past the list's limit: counted only, without the scans for line and column */
+        diag_add(c->d, sev, (SrcLoc){c->t->file.path, c->row_line, 0}, "%s", "");
+        return;
     }
     Buf b = BUF_INIT;
     va_list ap;
