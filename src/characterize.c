@@ -255,7 +255,22 @@ static int probe_model(const CharSpec *s, const char *abs, Tmp *t, ModelFacts *m
     }
     mf->type = hit->type;
     mf->level = hit->level;
-    nl_free(&ds);
+    /* ngspice runs the .control blocks of every file it reads, shell commands included: a model file
+       (or a file it includes) with one is refused, so that characterize runs nothing a file says.
+       File 0 is the probe. */
+    for (size_t i = 1; i < ds.files.n; i++) {
+        const SrcFile *sf = ds.files.files[i];
+        uint32_t line = 1;
+        for (size_t k = 0; k < sf->len; line++) {
+            size_t j = k;
+            while (j < sf->len && (sf->text[j] == ' ' || sf->text[j] == '\t'))
+                j++;
+            if (sf->len - j >= 8 && strncasecmp(sf->text + j, ".control", 8) == 0 &&
+                (sf->len - j == 8 || strchr(" \t\r\n", sf->text[j + 8]))) {
+                diag_add(d, DIAG_ERROR, (SrcLoc){sf->path, line, (uint32_t)(j - k + 1)},
+                         "a .control block in a model file: ngspice would run its commands, so biaslint does not "
+                         "characterize from this file; remove the block (or copy the model cards to a file of their own)");
+                nl_free(&ds);
     if (mf->type != MOS_NMOS && mf->type != MOS_PMOS)
         return diag_add(d, DIAG_ERROR, (SrcLoc){s->models, hit->card_line, 0},
                         "model '%s' is not a MOSFET model (nmos or pmos)", s->model);

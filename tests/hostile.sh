@@ -295,6 +295,15 @@ printf 'title\n.include "|touch executed-pipe"\n.include "$(touch executed-subst
 "$bin" check exec2.cir --op exec.csv >/dev/null 2>&1
 [ $? -eq 2 ] && ok || bad "includes named like commands should be missing files"
 ls executed-* 2>/dev/null | grep -q . && bad "a netlist's text was executed: $(ls executed-*)" || ok
+# characterize runs ngspice on a model file, and ngspice runs the .control blocks of what it reads:
+# a model file (or a file it includes) with one is refused before ngspice starts
+printf '* models\n.model nx nmos level=1 vto=0.5 kp=100u\n.include evil.inc\n' >models_evil.lib
+printf '* a file the model file includes\n  .CONTROL\nshell touch %s/executed-characterize\n.endc\n' "$work" >evil.inc
+"$bin" characterize --models models_evil.lib --model nx --l 1u --vgs 0:1:0.5 --vds 0:1:0.5 -o evil.lut -q 2>err.txt
+rc=$?
+[ $rc -eq 2 ] && grep -Eq 'evil.inc:2:3: error: a .control block in a model file' err.txt && [ ! -e evil.lut ] &&
+    [ ! -e executed-characterize ] && ok ||
+    { bad "characterize with a .control block in a model file: exit $rc"; cat err.txt; }
 # and biaslint never runs a program at all (strace, where available): the only execve, in biaslint
 # and in anything it might start (-f), is biaslint's own. (A clone sharing memory is a thread, such
 # as the one LeakSanitizer starts at exit; a program needs an execve.)
