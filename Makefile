@@ -96,7 +96,7 @@ valgrind: $(BUILD)/biaslint
 # N seconds in turn; results are appended to build/fuzz/stats.txt.
 FUZZ_CC      ?= clang
 FUZZ_SECONDS ?= 60
-FUZZ_TARGETS ?= netlist expr show raw csv rules $(if $(wildcard include/lut.h),lut)
+FUZZ_TARGETS ?= netlist expr show raw csv rules $(if $(wildcard include/lut.h),lut) json
 FUZZ_CFLAGS  := -O1 -g -fno-omit-frame-pointer -fsanitize=address,undefined -fno-sanitize-recover=all \
                 -std=c11 -Wall -Wextra -Werror -Wshadow -Wconversion -Wno-sign-conversion -DICACHE_BITS=8
 fuzz:

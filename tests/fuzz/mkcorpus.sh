@@ -7,7 +7,7 @@ set -eu
 out=$1
 root=$(cd "$(dirname "$0")/../.." && pwd)
 cd "$root"
-for t in netlist expr show raw csv rules lut; do mkdir -p "$out/$t"; rm -f "$out/$t"/seed-*; done
+for t in netlist expr show raw csv rules lut json; do mkdir -p "$out/$t"; rm -f "$out/$t"/seed-*; done
 seed() { # seed TARGET NAME < data: named by its checksum, so equal seeds are one file
     cat >"$out/$1/.new"
     sum=$(cksum <"$out/$1/.new" | cut -d' ' -f1)
@@ -71,12 +71,29 @@ for f in $(find tests -type f \( -path '*lut*' \) \( -name '*.csv' -o -name '*.l
     seed lut "$f" <"$f"
 done
 
+# json: JSON files of the tests, and reports biaslint writes on the op fixtures when it is built
+# (BIASLINT, default build/biaslint); each behind the four mode bytes of fuzz_json.c
+jsons=$(find tests -type f -name '*.json' | sort)
+bin=${BIASLINT:-build/biaslint}
+if [ -x "$bin" ]; then
+    for c in tests/fixtures/op/gen/*.cir; do
+        o=tests/fixtures/op/$(basename "$c" .cir).out
+        [ -f "$o" ] || continue
+        "$bin" check "$c" --op "$o" --format json >"$out/json/.report" 2>/dev/null || true
+        [ -s "$out/json/.report" ] && cp "$out/json/.report" "$out/json/.r-$(basename "$c" .cir)" && jsons="$jsons $out/json/.r-$(basename "$c" .cir)"
+    done
+fi
+for f in $jsons; do
+    for m in 0 1 2 3; do { printf "\\00$m"; cat "$f"; } | seed json "$f.m$m"; done
+done
+rm -f "$out/json"/.r-* "$out/json/.report"
+
 # hand-written seeds
 for d in tests/fuzz/seeds/*/; do
     [ -d "$d" ] || continue
     t=$(basename "$d")
     for f in "$d"*; do [ -f "$f" ] && seed "$t" "$f" <"$f"; done
 done
-for t in netlist expr show raw csv rules lut; do
+for t in netlist expr show raw csv rules lut json; do
     printf 'mkcorpus: %-8s %3d seeds\n' "$t" "$(ls "$out/$t" | grep -c '^seed-' || true)"
 done
