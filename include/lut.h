@@ -66,6 +66,9 @@ size_t lut_nodes(const LutInfo *info);
  * `where` on bad input or out of memory. */
 Lut *lut_new(const LutInfo *info, const double *vals, const char *where, DiagList *d);
 
+/* What lut_new checks, without building the table: ERR_OK or ERR_INPUT with a diagnostic. */
+int lut_check(const LutInfo *info, const double *vals, const char *where, DiagList *d) MUST_CHECK;
+
 /* Read and validate a table file. NULL with located diagnostics (file:line:column) on error: not a
  * biaslint table, a missing header key or column, an empty, NaN or non-numeric value, a grid that
  * is not rectangular (ragged), an axis that does not increase, a value with the wrong unit. */
@@ -98,6 +101,10 @@ unsigned lut_eval(const Lut *t, double l, double vgs, double vds, double vsb, Lu
 /* gm/ID alone at (l, vgs, vds, vsb), as lut_eval computes it, and ID for the reference width when id
  * is not NULL: the fast path (inverse lookups, sweeps). Returns the miss bits of lut_eval; NaN then. */
 unsigned lut_eval_gmid(const Lut *t, double l, double vgs, double vds, double vsb, double *gm_id, double *id);
+
+/* The table among tables[0..n) for a device of this type and model (case-insensitive); among several,
+ * the one made nearest temp_c (NaN: the first). NULL when none. */
+const Lut *lut_for_device(const Lut *const *tables, size_t n, MosType type, const char *model, double temp_c);
 
 /* Results of lut_vgs_for_gmid. */
 enum {

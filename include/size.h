@@ -7,8 +7,10 @@
 #include <stdio.h>
 
 #include "buf.h"
+#include "check.h"
 #include "cli.h"
 #include "diag.h"
+#include "join.h"
 #include "lut.h"
 
 /* The answer of `size`. NaN where a figure is absent (fT without Cgg, W without --id or --gm). */
@@ -30,6 +32,13 @@ int size_answer(const Lut *t, double l, double vgs, double vds, double vsb, doub
  * a width was asked for; SI units; null for an absent figure), appended to out. ERR_OK or ERR_NOMEM. */
 int size_format_text(const Lut *t, const SizeAnswer *a, Buf *out) MUST_CHECK;
 int size_format_json(const SizeAnswer *a, Buf *out) MUST_CHECK;
+
+/* check --table: for every gm/ID finding (a device that misses its gm/ID intent) whose model has a
+ * table, the width that restores the intended gm/ID (the middle of the intended range, or its bound)
+ * at the device's measured ID, L, VDS and VSB (lut_suggest_w): Row.suggest_w and suggest_gmid are set
+ * and the finding's message gets the sentence "W 4 um -> 9.3 um restores gm/ID 15 /V at 125 uA
+ * (table ...)." (arena of f). temp_c picks among tables of one model. ERR_OK or ERR_NOMEM. */
+int size_suggest(const Lut *const *tables, size_t ntables, double temp_c, Joined *j, Findings *f) MUST_CHECK;
 
 /* `biaslint size` as o says; output to o->output or out. Returns the exit status (run.h). */
 int run_size(const Options *o, FILE *out, DiagList *d);

@@ -271,6 +271,13 @@ static int probe_model(const CharSpec *s, const char *abs, Tmp *t, ModelFacts *m
                          "a .control block in a model file: ngspice would run its commands, so biaslint does not "
                          "characterize from this file; remove the block (or copy the model cards to a file of their own)");
                 nl_free(&ds);
+                return ERR_INPUT;
+            }
+            const char *nl = memchr(sf->text + k, '\n', sf->len - k);
+            k = nl ? (size_t)(nl - sf->text) + 1 : sf->len;
+        }
+    }
+    nl_free(&ds);
     if (mf->type != MOS_NMOS && mf->type != MOS_PMOS)
         return diag_add(d, DIAG_ERROR, (SrcLoc){s->models, hit->card_line, 0},
                         "model '%s' is not a MOSFET model (nmos or pmos)", s->model);
@@ -1110,12 +1117,10 @@ int char_run(const CharSpec *s, const char *outpath, CharProgress cb, void *ctx,
     if (rc != ERR_OK)
         return rc;
     /* validate as a reader would, before anything is written */
-    Lut *t = lut_new(&res.info, res.vals, outpath, d);
-    if (!t) {
+    if (lut_check(&res.info, res.vals, outpath, d) != ERR_OK) {
         char_result_free(&res);
         return ERR_INPUT;
     }
-    lut_free(t);
     OutFile of = {0};
     const char *inputs[1] = {s->models};
     if ((rc = out_open(&of, outpath, inputs, 1, d)) == ERR_OK) {

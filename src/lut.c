@@ -46,6 +46,7 @@
 #include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
+#include <strings.h>
 
 #include "arena.h"
 #include "buf.h"
@@ -65,10 +66,11 @@ const char *const lut_axis_label[LUTAX_COUNT] = {"L", "VSB", "VDS", "VGS"};     
  * cuts the gm/ID error at points off every grid about threefold (95th percentile 0.3 % instead of
  * 1 % with the demo's models) but quadruples the stencil (256 nodes instead of 64), which puts
  * random-point speed below 2 M/s; at points on the L and VSB grids both give the same numbers. */
-static const int axis_cubic[LUTAX_COUNT] = {0, 0, 1, 1};
+static const int axis_cubic[LUTAX_COUNT] = {0, 1, 1, 1};
 #define HOT_W LUTQ_COUNT /* values per node in the hot array */
 #ifndef LUT_HOT_DOUBLE
 typedef float Hot; /* 7 significant digits: far below the scheme's own error, half the memory traffic */
+#define LUT_VALUE_MAX 1e30 /* quantities beyond it (none is physical) would overflow a float */
 #else
 typedef double Hot;
 #endif
@@ -103,9 +105,11 @@ struct Lut {
     Axis ax[LUTAX_COUNT];
     size_t stride[LUTAX_COUNT];
     size_t nnodes;
-    Hot *hot;             /* nnodes * HOT_W: log of id, gm, gds, gmbs (NaN when <= 0), the rest linear */
-    Hot *pair;            /* nnodes * 2: log id, log gm again, packed: gm/ID alone touches 8 bytes a node */
+    Hot *hot;             /* nnodes * HOT_W: log id, log(gm/id), log(gds/id), log(gmbs/id) (NaN where a value
+                             is <= 0), the rest as they are */
+    Hot *pair;            /* nnodes * 2: log id, log(gm/id) again, packed: gm/ID alone touches 8 bytes a node */
     double *lin;          /* nnodes * NLOG: id, gm, gds, gmbs as they are, for the fallback */
+    double lid0;          /* hot and pair hold log id - lid0 (the mean log id): small numbers, precise floats */
 };
 
 size_t lut_nodes(const LutInfo *info)
@@ -365,19 +369,30 @@ static char *dup_str(Arena *a, const char *s)
     return s ? arena_strndup(a, s, strlen(s)) : NULL;
 }
 
-Lut *lut_new(const LutInfo *in, const double *vals, const char *where, DiagList *d)
+int lut_check(const LutInfo *in, const double *vals, const char *where, DiagList *d)
 {
     if (!where)
         where = "<table>";
     if (check_info(in, where, d) != ERR_OK)
-        return NULL;
+        return ERR_INPUT;
     size_t nn = lut_nodes(in);
     for (size_t i = 0; i < nn; i++)
         for (int q = 0; q < LUTQ_COUNT; q++)
-            if ((in->have >> q & 1u) && !isfinite(vals[i * LUTQ_COUNT + q])) {
-                bad_value(d, where, "grid point %zu: %s is not a finite number", i + 1, lut_qty_column[q]);
-                return NULL;
-            }
+            if ((in->have >> q & 1u) && !isfinite(vals[i * LUTQ_COUNT + q]))
+                return bad_value(d, where, "grid point %zu: %s is not a finite number", i + 1, lut_qty_column[q]);
+            else if ((in->have >> q & 1u) && fabs(vals[i * LUTQ_COUNT + q]) > LUT_VALUE_MAX)
+                return bad_value(d, where, "grid point %zu: %s is %g, over %g in magnitude", i + 1, lut_qty_column[q],
+                                 vals[i * LUTQ_COUNT + q], LUT_VALUE_MAX);
+    return ERR_OK;
+}
+
+Lut *lut_new(const LutInfo *in, const double *vals, const char *where, DiagList *d)
+{
+    if (!where)
+        where = "<table>";
+    if (lut_check(in, vals, where, d) != ERR_OK)
+        return NULL;
+    size_t nn = lut_nodes(in);
     Lut *t = calloc(1, sizeof *t);
     if (!t) {
         diag_nomem(d);
@@ -422,15 +437,26 @@ Lut *lut_new(const LutInfo *in, const double *vals, const char *where, DiagList 
     t->lin = malloc(nn * NLOG * sizeof *t->lin);
     if (!t->hot || !t->pair || !t->lin)
         goto nomem;
+    double sum = 0;
+    size_t cnt = 0;
+    for (size_t i = 0; i < nn && (in->have & 1u); i++)
+        if (vals[i * LUTQ_COUNT + LUTQ_ID] > 0) {
+            sum += log(vals[i * LUTQ_COUNT + LUTQ_ID]);
+            cnt++;
+        }
+    t->lid0 = cnt ? sum / (double)cnt : 0;
     for (size_t i = 0; i < nn; i++) {
         const double *src = vals + i * LUTQ_COUNT;
         Hot *h = t->hot + i * HOT_W;
         double *l = t->lin + i * NLOG;
+        /* log id, and log(x/id) for gm, gds, gmbs: ratios near 1 to 1e3, so a float holds their logs to
+           1e-7 and gm/ID, gm/gds come out as accurate as the scheme is */
+        double id = (in->have & 1u) ? src[LUTQ_ID] : 0.0, lid = id > 0 ? log(id) : NAN;
         for (int q = 0; q < HOT_W; q++) {
             double v = q < LUTQ_COUNT && (in->have >> q & 1u) ? src[q] : 0.0;
             if (q < NLOG) {
                 l[q] = v;
-                h[q] = (Hot)(v > 0 ? log(v) : NAN);
+                h[q] = (Hot)(q == LUTQ_ID ? lid - t->lid0 : v > 0 ? log(v) - lid : NAN);
             } else {
                 h[q] = (Hot)v;
             }
@@ -480,11 +506,25 @@ static void sum_stencil(const Lut *t, const Stencil st[LUTAX_COUNT], const doubl
         }
 }
 
-/* The weighted sum of the hot values over the stencil: the hot path. The VGS nodes of a line are
- * contiguous, HOT_W values each; the nine sums stay in registers. */
+/* The weighted sum over the stencil's VGS nodes of value q of a line (nodes `stride` values apart):
+ * written out for four nodes, in pairs, so that the sums do not wait on each other (lut_eval_gmid). */
+static inline Hot line_sum(const Hot *p, size_t stride, int q, const Hot wg[4], int ng)
+{
+    if (ng == 4)
+        return (wg[0] * p[q] + wg[1] * p[stride + (size_t)q]) +
+               (wg[2] * p[2 * stride + (size_t)q] + wg[3] * p[3 * stride + (size_t)q]);
+    Hot t = 0;
+    for (int g = 0; g < ng; g++)
+        t += wg[g] * p[(size_t)g * stride + (size_t)q];
+    return t;
+}
+
+/* The weighted sum of the hot values over the stencil: the hot path of lut_eval. The VGS nodes of a
+ * line are contiguous, HOT_W values each; nine independent sums (the compiler pairs them up). The
+ * order of the additions differs from lut_eval_gmid's, so the two agree to float rounding only. */
 static void sum_hot(const Lut *t, const Stencil st[LUTAX_COUNT], double acc[LUTQ_COUNT])
 {
-    Hot s0 = 0, s1 = 0, s2 = 0, s3 = 0, s4 = 0, s5 = 0, s6 = 0, s7 = 0, s8 = 0;
+    Hot s[LUTQ_COUNT] = {0};
     const Stencil *sl = &st[LUTAX_L], *sb = &st[LUTAX_VSB], *sd = &st[LUTAX_VDS], *sg = &st[LUTAX_VGS];
     size_t base = sl->base * t->stride[LUTAX_L] + sb->base * t->stride[LUTAX_VSB] +
                   sd->base * t->stride[LUTAX_VDS] + sg->base;
@@ -498,14 +538,14 @@ static void sum_hot(const Lut *t, const Stencil st[LUTAX_COUNT], double acc[LUTQ
                 Hot w3 = (Hot)(wab * sd->w[c]);
                 const Hot *p = pab + (size_t)c * t->stride[LUTAX_VDS] * HOT_W;
                 for (int g = 0; g < ng; g++, p += HOT_W) {
-                    Hot w = w3 * wg[g]; /* the same products as lut_eval_gmid's */
-                    s0 += w * p[0], s1 += w * p[1], s2 += w * p[2], s3 += w * p[3], s4 += w * p[4];
-                    s5 += w * p[5], s6 += w * p[6], s7 += w * p[7], s8 += w * p[8];
+                    Hot w = w3 * wg[g];
+                    s[0] += w * p[0], s[1] += w * p[1], s[2] += w * p[2], s[3] += w * p[3], s[4] += w * p[4];
+                    s[5] += w * p[5], s[6] += w * p[6], s[7] += w * p[7], s[8] += w * p[8]; /* ORDER LUTQ */
                 }
             }
         }
-    acc[0] = s0, acc[1] = s1, acc[2] = s2, acc[3] = s3, acc[4] = s4;
-    acc[5] = s5, acc[6] = s6, acc[7] = s7, acc[8] = s8; /* ORDER LUTQ: nine quantities */
+    for (int q = 0; q < LUTQ_COUNT; q++)
+        acc[q] = (double)s[q];
 }
 
 static unsigned stencils(const Lut *t, double l, double vgs, double vds, double vsb, Stencil st[LUTAX_COUNT])
@@ -542,17 +582,14 @@ unsigned lut_eval_gmid(const Lut *t, double l, double vgs, double vds, double vs
             for (int c = 0; c < sd->cnt; c++) {
                 Hot w3 = (Hot)(wab * sd->w[c]);
                 const Hot *p = pab + (size_t)c * t->stride[LUTAX_VDS] * 2;
-                for (int g = 0; g < ng; g++, p += 2) {
-                    Hot w = w3 * wg[g];
-                    a0 += w * p[0];
-                    a1 += w * p[1];
-                }
+                a0 += w3 * line_sum(p, 2, LUTQ_ID, wg, ng);
+                a1 += w3 * line_sum(p, 2, LUTQ_GM, wg, ng);
             }
         }
     if (!isnan(a0) && !isnan(a1)) {
-        *gm_id = exp((double)a1 - (double)a0);
+        *gm_id = exp((double)a1);
         if (id)
-            *id = exp((double)a0);
+            *id = exp((double)a0 + t->lid0);
         return 0;
     }
     double lin[NLOG];
@@ -581,17 +618,23 @@ unsigned lut_eval(const Lut *t, double l, double vgs, double vds, double vsb, Lu
     double lin[NLOG];
     if (fallback)
         sum_stencil(t, st, t->lin, NLOG, lin);
+    /* a ratio to id needs id's log too: without it, that quantity goes linear as well */
+    if (fallback & 1u)
+        fallback |= have & (LOGQ & ~1u);
+    double idl = fallback & 1u ? lin[LUTQ_ID] : exp(acc[LUTQ_ID] + t->lid0);
     for (int q = 0; q < LUTQ_COUNT; q++) {
         if (!(have >> q & 1u))
             out->q[q] = NAN;
         else if (q >= NLOG)
             out->q[q] = acc[q];
+        else if (fallback >> q & 1u)
+            out->q[q] = lin[q];
         else
-            out->q[q] = fallback >> q & 1u ? lin[q] : exp(acc[q]);
+            out->q[q] = q == LUTQ_ID ? idl : idl * exp(acc[q]);
     }
     double id = out->q[LUTQ_ID], gm = out->q[LUTQ_GM], gds = out->q[LUTQ_GDS], cgg = out->q[LUTQ_CGG];
     if (!(fallback & ((1u << LUTQ_ID) | (1u << LUTQ_GM))))
-        out->gm_id = exp(acc[LUTQ_GM] - acc[LUTQ_ID]);
+        out->gm_id = exp(acc[LUTQ_GM]);
     else
         out->gm_id = id > 0 ? gm / id : NAN;
     out->id_w = id / t->info.w_ref;
@@ -607,6 +650,19 @@ unsigned lut_eval(const Lut *t, double l, double vgs, double vds, double vsb, Lu
         if (isinf(*fig[k]))
             *fig[k] = NAN;
     return 0;
+}
+
+const Lut *lut_for_device(const Lut *const *tables, size_t n, MosType type, const char *model, double temp_c)
+{
+    const Lut *best = NULL;
+    for (size_t i = 0; model && i < n; i++) {
+        const LutInfo *in = &tables[i]->info;
+        if (in->type != type || strcasecmp(in->model, model) != 0)
+            continue;
+        if (!best || (!isnan(temp_c) && fabs(in->temp_c - temp_c) < fabs(best->info.temp_c - temp_c)))
+            best = tables[i];
+    }
+    return best;
 }
 
 /* ---- inverse lookup -------------------------------------------------------------------------- */
@@ -725,6 +781,12 @@ int lut_suggest_w(const Lut *t, double l, double vds, double vsb, double target,
 static const double pow10_tab[23] = {1e0,  1e1,  1e2,  1e3,  1e4,  1e5,  1e6,  1e7,  1e8,  1e9,  1e10, 1e11,
                                      1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22};
 
+/* 1e0 .. 1e44: the scales put_num needs for values from 1e-35 to 1e9, one multiplication each */
+static const double pow10_pos[45] = {
+    1e0,  1e1,  1e2,  1e3,  1e4,  1e5,  1e6,  1e7,  1e8,  1e9,  1e10, 1e11, 1e12, 1e13, 1e14,
+    1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22, 1e23, 1e24, 1e25, 1e26, 1e27, 1e28, 1e29,
+    1e30, 1e31, 1e32, 1e33, 1e34, 1e35, 1e36, 1e37, 1e38, 1e39, 1e40, 1e41, 1e42, 1e43, 1e44};
+
 static double pow10i(int k)
 {
     double r = 1;
@@ -739,25 +801,37 @@ static double pow10i(int k)
     return neg ? 1 / r : r;
 }
 
-/* v with 10 significant digits, as short as it goes ("0", "0.025", "1.8", "1.234567891e-06"):
- * a plain decimal that op_parse_number (and strtod) reads back. p needs 24 bytes. Returns the end. */
+#define NUM_DIGITS 10 /* significant digits written: well past the float precision tables are read with */
+
+/* v with NUM_DIGITS significant digits, as short as it goes ("0", "0.025", "1.8", "1.234567891e-06"):
+ * a plain decimal that op_parse_number (and strtod) reads back. p needs 24 bytes. Returns the end.
+ * (snprintf("%.10g") would do, at several times the cost: a table has a million numbers.) */
 static char *put_num(char *p, double v)
 {
+    static const char two[201] = "00010203040506070809101112131415161718192021222324252627282930313233343536373839"
+                                 "40414243444546474849505152535455565758596061626364656667686970717273747576777879"
+                                 "8081828384858687888990919293949596979899";
     if (v == 0) {
         *p++ = '0';
         return p;
     }
+    if (!(fabs(v) > 1e-300 && fabs(v) < 1e300)) /* subnormal or huge: the slow way */
+        return p + snprintf(p, 24, "%.10g", v);
     if (v < 0) {
         *p++ = '-';
         v = -v;
     }
-    int e2;
-    frexp(v, &e2);
-    int e = (int)floor((double)(e2 - 1) * 0.30102999566398120); /* log10(v) or one less */
-    double m = v * pow10i(9 - e);
+    uint64_t bits;
+    memcpy(&bits, &v, sizeof bits);
+    int e2 = (int)((bits >> 52) & 0x7ff) - 1023;
+    /* floor(e2 * log10(2)) in integers (78913 / 2^18 = log10(2) to 6 digits): log10(v), or one less */
+    int e = e2 >= 0 ? (e2 * 78913) >> 18 : -((-e2 * 78913 + 262143) >> 18);
+    int k = NUM_DIGITS - 1 - e;
+    double m = k >= 0 && k <= 44 ? v * pow10_pos[k] : v * pow10i(k);
     if (m >= 1e10) {
         e++;
-        m = v * pow10i(9 - e);
+        k--;
+        m = k >= 0 && k <= 44 ? v * pow10_pos[k] : v * pow10i(k);
     }
     uint64_t dg = (uint64_t)(m + 0.5);
     if (dg >= 10000000000u) {
@@ -767,15 +841,17 @@ static char *put_num(char *p, double v)
         dg *= 10;
         e--;
     }
-    char dig[10];
-    for (int i = 9; i >= 0; i--) {
-        dig[i] = (char)('0' + dg % 10);
-        dg /= 10;
+    char dig[NUM_DIGITS];
+    for (int i = NUM_DIGITS - 2; i >= 0; i -= 2) {
+        unsigned r = (unsigned)(dg % 100);
+        dg /= 100;
+        dig[i] = two[2 * r];
+        dig[i + 1] = two[2 * r + 1];
     }
-    int nd = 10;
+    int nd = NUM_DIGITS;
     while (nd > 1 && dig[nd - 1] == '0')
         nd--;
-    if (e >= -4 && e < 10) {
+    if (e >= -4 && e < NUM_DIGITS) {
         if (e < 0) {
             *p++ = '0';
             *p++ = '.';
@@ -1096,6 +1172,12 @@ static void on_field(void *data, size_t n, void *ctx)
         else
             lerr(c, field_col(c, k), (uint32_t)n, "%s is '%.*s', not a plain decimal number in SI units", name,
                  (int)n, s);
+        return;
+    }
+    if (role >= LUTAX_COUNT && fabs(v) > LUT_VALUE_MAX) { /* it would not survive the float storage (fuzz_lut) */
+        c->row_bad = 1;
+        lerr(c, field_col(c, k), (uint32_t)n, "%s is '%.*s': a table value must be below %g in magnitude", name,
+             (int)n, s, LUT_VALUE_MAX);
         return;
     }
     c->rowv[role] = v;

@@ -214,6 +214,67 @@ done:
     return status;
 }
 
+/* ---- width suggestions (check --table) --------------------------------------------------------- */
+
+/* v as "9.3 um", "125 uA": 3 significant digits and an SI prefix, into buf. */
+static const char *eng3(double v, const char *unit, char *buf, size_t size)
+{
+    static const char *const pre[] = {"f", "p", "n", "u", "m", "", "k", "M"};
+    int e = v != 0 && isfinite(v) ? (int)floor(log10(fabs(v)) / 3) : 0;
+    e = e < -5 ? -5 : e > 2 ? 2 : e;
+    snprintf(buf, size, "%.3g %s%s", v / pow(1000.0, e), pre[e + 5], unit);
+    return buf;
+}
+
+int size_suggest(const Lut *const *tables, size_t ntables, double temp_c, Joined *j, Findings *f)
+{
+    for (size_t i = 0; i < f->n; i++) {
+        Finding *fd = &f->items[i];
+        if (fd->check != CHECK_GMID || fd->row >= j->n)
+            continue;
+        Row *r = &j->rows[fd->row];
+        const Device *dv = r->dev;
+        double lo = fd->want_lo, hi = fd->want_hi;
+        double target = !isnan(lo) && !isnan(hi) ? 0.5 * (lo + hi) : !isnan(lo) ? lo : hi;
+        const Lut *t = lut_for_device(tables, ntables, dv->type, dv->model, temp_c);
+        if (!t || !(target > 0) || !(r->fig.id > 0) || !(dv->m > 0))
+            continue;
+        double w, vgs;
+        int rc = lut_suggest_w(t, dv->l, r->fig.vds, r->fig.vsb, target, r->fig.id, dv->m, &w, &vgs);
+        char a[32], b[32], c[32], more[256];
+        if (rc == LUT_INV_OK && w > 0) {
+            r->suggest_w = w;
+            r->suggest_gmid = target;
+            char each[32] = "";
+            if (dv->m != 1)
+                snprintf(each, sizeof each, " (each of m=%g)", dv->m);
+            snprintf(more, sizeof more, "W %s -> %s%s restores gm/ID %.3g /V at %s (table %s)",
+                     eng3(dv->w, "m", a, sizeof a), eng3(w, "m", b, sizeof b), each, target,
+                     eng3(r->fig.id, "A", c, sizeof c), lut_path(t));
+        } else {
+            snprintf(more, sizeof more, "no width suggestion: %s",
+                     rc == LUT_INV_OUTSIDE ? "L or the bias lies outside the table's grid"
+                                           : "the table does not reach that gm/ID at this L and bias");
+        }
+        size_t n1 = fd->message ? strlen(fd->message) : 0, n2 = strlen(more);
+        char *m = arena_alloc(&f->arena, n1 + n2 + 4);
+        if (!m)
+            return ERR_NOMEM;
+        size_t k = n1;
+        if (n1)
+            memcpy(m, fd->message, n1);
+        if (k && m[k - 1] == '.')
+            k--; /* "...intended. W ..." reads as two sentences: make it one */
+        if (k) {
+            memcpy(m + k, "; ", 2);
+            k += 2;
+        }
+        memcpy(m + k, more, n2 + 1);
+        fd->message = m;
+    }
+    return ERR_OK;
+}
+
 /* ---- characterize ------------------------------------------------------------------------------ */
 
 typedef struct {

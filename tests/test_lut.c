@@ -108,7 +108,8 @@ static void test_quadratics_exact(void **state)
         assert_close(v.ft, v.q[LUTQ_GM] / (6.283185307179586 * v.q[LUTQ_CGG]), 1e-12);
         double g, id;
         assert_int_equal(lut_eval_gmid(t, l, gs, ds, sb, &g, &id), 0);
-        assert_true(g == v.gm_id && id == v.q[LUTQ_ID]); /* the fast path is the same arithmetic */
+        assert_close(g, v.gm_id, 1e-6); /* the fast path: the same sums, added in another order */
+        assert_close(id, v.q[LUTQ_ID], 5e-6);
         assert_true(isnan(v.q[LUTQ_GMBS]) && isnan(v.q[LUTQ_CGS])); /* absent columns stay absent */
     }
     /* the nodes themselves come back as they are */
@@ -315,6 +316,50 @@ static void test_write_load_roundtrip(void **state)
     free(vals);
     free(path);
     diag_free(&d);
+}
+
+/* The writer's numbers read back (strtod) within half a unit of their tenth digit. */
+static void test_write_numbers(void **state)
+{
+    (void)state;
+    static const double l[] = {1.8e-07, 2.5e-07}, sb[] = {0}, ds[] = {0.05, 1.75}, gs[] = {0.025, 0.075, 1.8};
+    double vals[12 * LUTQ_COUNT];
+    for (int i = 0; i < 12 * LUTQ_COUNT; i++) {
+        double mag = pow(10, -25 + 28 * urand());
+        vals[i] = (i % 7 == 3 ? -1 : 1) * mag * (1 + urand());
+    }
+    vals[5] = 0;
+    vals[6] = 123456789012.0;
+    vals[7] = 1e-310; /* subnormal */
+    LutInfo in = {"w", MOS_NMOS, 0, 27, 1e-6, NULL, NULL, NULL, NULL, {l, sb, ds, gs}, {2, 1, 2, 3},
+                  (1u << LUTQ_COUNT) - 1};
+    char *path = TU_TMPFILE("num.lut", "");
+    FILE *fp = fopen(path, "w");
+    assert_int_equal(lut_write(fp, &in, vals), ERR_OK);
+    fclose(fp);
+    fp = fopen(path, "r");
+    char line[4096];
+    size_t row = 0;
+    while (fgets(line, sizeof line, fp)) {
+        if (line[0] == '#' || line[0] == 'l')
+            continue;
+        char *p = line;
+        for (int f = 0; f < LUTAX_COUNT + LUTQ_COUNT; f++) {
+            char *end;
+            double x = strtod(p, &end);
+            assert_true(end > p);
+            if (f >= LUTAX_COUNT) {
+                double want = vals[row * LUTQ_COUNT + (f - LUTAX_COUNT)];
+                if (!(fabs(x - want) <= 5e-10 * fabs(want)))
+                    fail_msg("row %zu field %d: wrote %.17g for %.17g", row, f, x, want);
+            }
+            p = *end == ',' ? end + 1 : end;
+        }
+        row++;
+    }
+    fclose(fp);
+    assert_int_equal(row, 12);
+    free(path);
 }
 
 static void test_load_good_fixture(void **state)
@@ -620,6 +665,7 @@ int main(void)
         cmocka_unit_test(test_single_point_axis),
         cmocka_unit_test(test_new_rejects),
         cmocka_unit_test(test_write_load_roundtrip),
+        cmocka_unit_test(test_write_numbers),
         cmocka_unit_test(test_load_good_fixture),
         cmocka_unit_test(test_load_errors),
         cmocka_unit_test(test_nch_offgrid_vs_ngspice),
