@@ -93,9 +93,9 @@ typedef struct {
 
 /* Interpolate every quantity at (l, vgs, vds, vsb) (n-type convention). Returns 0 when the point
  * lies inside the grid, else a bit mask (1 << LutAxis) of the axes it falls outside of; then every
- * value is NaN: a table never extrapolates. Scheme (see lut.c): piecewise cubic Hermite along VGS
- * and VDS with slopes from three-point differences, linear along log(L) and VSB, positive currents
- * and conductances interpolated as logarithms. */
+ * value is NaN: a table never extrapolates. Scheme (see lut.c): piecewise cubic Hermite along VGS,
+ * VDS and VSB with slopes from three-point differences, linear along log(L); log(id) and the logs of
+ * gm/id, gds/id, gmbs/id interpolated. */
 unsigned lut_eval(const Lut *t, double l, double vgs, double vds, double vsb, LutVals *out);
 
 /* gm/ID alone at (l, vgs, vds, vsb), as lut_eval computes it, and ID for the reference width when id

@@ -255,6 +255,7 @@ static int probe_model(const CharSpec *s, const char *abs, Tmp *t, ModelFacts *m
     }
     mf->type = hit->type;
     mf->level = hit->level;
+    uint32_t card_line = hit->card_line; /* hit lives in ds, freed below */
     /* ngspice runs the .control blocks of every file it reads, shell commands included: a model file
        (or a file it includes) with one is refused, so that characterize runs nothing a file says.
        File 0 is the probe. */
@@ -279,7 +280,7 @@ static int probe_model(const CharSpec *s, const char *abs, Tmp *t, ModelFacts *m
     }
     nl_free(&ds);
     if (mf->type != MOS_NMOS && mf->type != MOS_PMOS)
-        return diag_add(d, DIAG_ERROR, (SrcLoc){s->models, hit->card_line, 0},
+        return diag_add(d, DIAG_ERROR, (SrcLoc){s->models, card_line, 0},
                         "model '%s' is not a MOSFET model (nmos or pmos)", s->model);
     switch (mf->level) {
     case 1:
@@ -294,7 +295,7 @@ static int probe_model(const CharSpec *s, const char *abs, Tmp *t, ModelFacts *m
         mf->fam = FAM_BSIM;
         break;
     default:
-        return diag_add(d, DIAG_ERROR, (SrcLoc){s->models, hit->card_line, 0},
+        return diag_add(d, DIAG_ERROR, (SrcLoc){s->models, card_line, 0},
                         "model '%s' is level %d: characterize knows levels 1, 2, 3 (they report von) and BSIM3/BSIM4 "
                         "(8, 49, 14, 54)",
                         s->model, mf->level);

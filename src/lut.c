@@ -28,16 +28,16 @@
  *   fastest; every axis strictly increasing. No empty, NaN or infinite value.
  *
  * Interpolation (lut_eval): a tensor product of one-dimensional interpolants, piecewise cubic
- * Hermite along VGS and VDS (node slopes from the three-point, parabola, difference, which keeps
- * every weight linear in the node values) and linear along log(L) and VSB (axis_cubic says why); so
- * a value is a fixed weighted sum over a 2x2x4x4 stencil (1 node on an axis when the point sits on
- * one of its nodes, as a device at one of the table's lengths does). L is taken as log(L)
- * (long-channel currents go as 1/L). Currents and conductances (id, gm, gds, gmbs) are
- * interpolated as logarithms, which is exact for an exponential and keeps weak inversion accurate;
- * where a node in the stencil holds a value <= 0 (VDS = 0, a cut-off level-1 device) that quantity
- * falls back to linear interpolation. gm/ID is exp(log gm - log id). Values are kept as floats (7
- * digits, far below the scheme's own error) to halve the memory traffic. A point outside the grid
- * gets no values: the table never extrapolates. */
+ * Hermite along VGS, VDS and VSB (node slopes from the three-point, parabola, difference, which
+ * keeps every weight linear in the node values) and linear along log(L) (axis_cubic says why); so a
+ * value is a fixed weighted sum over a 2x4x4x4 stencil (1 node on an axis when the point sits on one
+ * of its nodes, as a device at one of the table's lengths does). L is taken as log(L) (long-channel
+ * currents go as 1/L). The current is interpolated as log(id) and the conductances as log(gm/id),
+ * log(gds/id), log(gmbs/id): exact for exponentials, which keeps weak inversion accurate, and gm/ID
+ * is exp(log(gm/id)) directly. Where a node in the stencil holds a value <= 0 (VDS = 0, a cut-off
+ * level-1 device) those quantities fall back to linear interpolation. Values are kept as floats (the
+ * logs against the table's mean log id, so 7 digits hold), far below the scheme's own error, to halve
+ * the memory traffic. A point outside the grid gets no values: the table never extrapolates. */
 #include "lut.h"
 
 #include <csv.h>
@@ -62,10 +62,12 @@ const char *const lut_axis_label[LUTAX_COUNT] = {"L", "VSB", "VDS", "VGS"};     
 #define LUT_VERSION 1
 #define LOGQ ((1u << LUTQ_ID) | (1u << LUTQ_GM) | (1u << LUTQ_GDS) | (1u << LUTQ_GMBS))
 #define NLOG 4 /* quantities LUTQ_ID..LUTQ_GMBS: the log-interpolated ones, first in ORDER LUTQ */
-/* Cubic (1) or linear (0) between the nodes of each axis. ORDER LUTAX. Cubic along L and VSB too
- * cuts the gm/ID error at points off every grid about threefold (95th percentile 0.3 % instead of
- * 1 % with the demo's models) but quadruples the stencil (256 nodes instead of 64), which puts
- * random-point speed below 2 M/s; at points on the L and VSB grids both give the same numbers. */
+/* Cubic (1) or linear (0) between the nodes of each axis. ORDER LUTAX. Along VSB the body effect
+ * bends the curves enough that linear interpolation costs accuracy a designer sees (0.4-0.9 % in
+ * gm/ID at mid-VSB with 0.2 V steps on the demo's models, 2.8 % on a level-1 device near threshold),
+ * so VSB is cubic. Along L, cubic would lower the error at lengths off the grid (95th percentile
+ * 0.16 % against about 0.6 %) but double the stencil again; devices mostly sit on the table's
+ * lengths, where both give the same numbers. */
 static const int axis_cubic[LUTAX_COUNT] = {0, 1, 1, 1};
 #define HOT_W LUTQ_COUNT /* values per node in the hot array */
 #ifndef LUT_HOT_DOUBLE
@@ -292,9 +294,12 @@ static int axis_spans(Axis *a)
         /* basis: h00 = 1 - 3s^2 + 2s^3, h01 = 3s^2 - 2s^3, h10 = d(s - 2s^2 + s^3), h11 = d(s^3 - s^2) */
         static const double H00[4] = {1, 0, -3, 2}, H01[4] = {0, 0, 3, -2}, H10[4] = {0, 1, -2, 1},
                             H11[4] = {0, 0, -1, 1};
-        size_t base = n == 3 ? 0 : k == 0 ? 0 : k - 1 > n - 4 ? n - 4 : k - 1;
+        /* the nodes that carry weight: k-1..k+2 inside, three at either end (a node of zero weight
+           would still bring its NaN into the sums) */
+        int edge = k == 0 || k == n - 2;
+        size_t base = k == 0 ? 0 : k == n - 2 ? n - 3 : k - 1;
         sp->base = base;
-        sp->cnt = n == 3 ? 3 : 4;
+        sp->cnt = edge ? 3 : 4;
         for (int i = 0; i < 4; i++) {
             sp->m[k - base][i] += H00[i];
             sp->m[k + 1 - base][i] += H01[i];
@@ -548,6 +553,59 @@ static void sum_hot(const Lut *t, const Stencil st[LUTAX_COUNT], double acc[LUTQ
         acc[q] = (double)s[q];
 }
 
+/* The cell's corners alone, weighted linearly (one node on an axis the point sits on): the fallback
+ * stencil near nodes whose logs do not exist. */
+static void cell_axis(const Axis *a, const Stencil *wide, double t, Stencil *st)
+{
+    size_t n = a->n;
+    if (wide->cnt == 1 || n == 1) {
+        *st = *wide;
+        return;
+    }
+    const double *x = a->x;
+    t = t < x[0] ? x[0] : t > x[n - 1] ? x[n - 1] : t;
+    size_t k = wide->base;
+    while (k + 2 < n && x[k + 1] <= t)
+        k++;
+    while (k > 0 && x[k] > t)
+        k--;
+    double s = (t - x[k]) / (x[k + 1] - x[k]);
+    st->base = k;
+    st->cnt = 2;
+    st->w[0] = 1 - s;
+    st->w[1] = s;
+}
+
+static void cells(const Lut *t, double l, double vgs, double vds, double vsb, const Stencil wide[LUTAX_COUNT],
+                  Stencil st[LUTAX_COUNT])
+{
+    cell_axis(&t->ax[LUTAX_L], &wide[LUTAX_L], log(l), &st[LUTAX_L]);
+    cell_axis(&t->ax[LUTAX_VSB], &wide[LUTAX_VSB], vsb, &st[LUTAX_VSB]);
+    cell_axis(&t->ax[LUTAX_VDS], &wide[LUTAX_VDS], vds, &st[LUTAX_VDS]);
+    cell_axis(&t->ax[LUTAX_VGS], &wide[LUTAX_VGS], vgs, &st[LUTAX_VGS]);
+}
+
+/* The weighted sum of `width` float values per node (hot or pair data) over a small stencil. */
+static void sum_floats(const Lut *t, const Stencil st[LUTAX_COUNT], const Hot *data, int width, double *acc)
+{
+    for (int q = 0; q < width; q++)
+        acc[q] = 0;
+    const Stencil *sl = &st[LUTAX_L], *sb = &st[LUTAX_VSB], *sd = &st[LUTAX_VDS], *sg = &st[LUTAX_VGS];
+    size_t base = sl->base * t->stride[LUTAX_L] + sb->base * t->stride[LUTAX_VSB] +
+                  sd->base * t->stride[LUTAX_VDS] + sg->base;
+    for (int a = 0; a < sl->cnt; a++)
+        for (int b = 0; b < sb->cnt; b++)
+            for (int c = 0; c < sd->cnt; c++)
+                for (int g = 0; g < sg->cnt; g++) {
+                    double w = sl->w[a] * sb->w[b] * sd->w[c] * sg->w[g];
+                    const Hot *p = data + (base + (size_t)a * t->stride[LUTAX_L] + (size_t)b * t->stride[LUTAX_VSB] +
+                                           (size_t)c * t->stride[LUTAX_VDS] + (size_t)g) *
+                                              (size_t)width;
+                    for (int q = 0; q < width; q++)
+                        acc[q] += w * (double)p[q];
+                }
+}
+
 static unsigned stencils(const Lut *t, double l, double vgs, double vds, double vsb, Stencil st[LUTAX_COUNT])
 {
     unsigned miss = 0;
@@ -592,11 +650,17 @@ unsigned lut_eval_gmid(const Lut *t, double l, double vgs, double vds, double vs
             *id = exp((double)a0 + t->lid0);
         return 0;
     }
-    double lin[NLOG];
-    sum_stencil(t, st, t->lin, NLOG, lin);
-    *gm_id = lin[LUTQ_ID] > 0 ? lin[LUTQ_GM] / lin[LUTQ_ID] : NAN;
+    /* as lut_eval: the cell's corners in log scale, else their values */
+    Stencil c[LUTAX_COUNT];
+    double cl[2], lin[NLOG];
+    cells(t, l, vgs, vds, vsb, st, c);
+    sum_floats(t, c, t->pair, 2, cl);
+    sum_stencil(t, c, t->lin, NLOG, lin);
+    double idv = !isnan(a0) ? exp((double)a0 + t->lid0) : !isnan(cl[0]) ? exp(cl[0] + t->lid0) : lin[LUTQ_ID];
+    double g = !isnan(a1) ? exp((double)a1) : !isnan(cl[1]) ? exp(cl[1]) : idv > 0 ? lin[LUTQ_GM] / idv : NAN;
+    *gm_id = isinf(g) ? NAN : g;
     if (id)
-        *id = lin[LUTQ_ID];
+        *id = isinf(idv) ? NAN : idv;
     return 0;
 }
 
@@ -611,32 +675,38 @@ unsigned lut_eval(const Lut *t, double l, double vgs, double vds, double vsb, Lu
     double acc[LUTQ_COUNT];
     sum_hot(t, st, acc);
     unsigned have = t->info.have;
-    unsigned fallback = 0;
+    unsigned bad = 0;
     for (int q = 0; q < NLOG; q++)
         if ((have >> q & 1u) && isnan(acc[q]))
-            fallback |= 1u << q;
-    double lin[NLOG];
-    if (fallback)
-        sum_stencil(t, st, t->lin, NLOG, lin);
-    /* a ratio to id needs id's log too: without it, that quantity goes linear as well */
-    if (fallback & 1u)
-        fallback |= have & (LOGQ & ~1u);
-    double idl = fallback & 1u ? lin[LUTQ_ID] : exp(acc[LUTQ_ID] + t->lid0);
+            bad |= 1u << q;
+    /* Near a node whose log does not exist (a value <= 0: VDS = 0, a level-1 device cut off), the
+       cell's corners alone: in log scale when they all have logs, else linearly on the values. Each
+       log quantity takes the best it can get; a ratio to id is multiplied by the id found. */
+    double lg[NLOG], cl[HOT_W], lin[NLOG];
+    int ok[NLOG];
+    if (bad) {
+        Stencil c[LUTAX_COUNT];
+        cells(t, l, vgs, vds, vsb, st, c);
+        sum_floats(t, c, t->hot, HOT_W, cl);
+        sum_stencil(t, c, t->lin, NLOG, lin);
+    }
+    for (int q = 0; q < NLOG; q++) {
+        ok[q] = !(bad >> q & 1u) || !isnan(cl[q]);
+        lg[q] = !(bad >> q & 1u) ? acc[q] : cl[q];
+    }
+    double idl = ok[LUTQ_ID] ? exp(lg[LUTQ_ID] + t->lid0) : lin[LUTQ_ID];
     for (int q = 0; q < LUTQ_COUNT; q++) {
         if (!(have >> q & 1u))
             out->q[q] = NAN;
         else if (q >= NLOG)
             out->q[q] = acc[q];
-        else if (fallback >> q & 1u)
-            out->q[q] = lin[q];
+        else if (q == LUTQ_ID)
+            out->q[q] = idl;
         else
-            out->q[q] = q == LUTQ_ID ? idl : idl * exp(acc[q]);
+            out->q[q] = ok[q] ? idl * exp(lg[q]) : lin[q];
     }
     double id = out->q[LUTQ_ID], gm = out->q[LUTQ_GM], gds = out->q[LUTQ_GDS], cgg = out->q[LUTQ_CGG];
-    if (!(fallback & ((1u << LUTQ_ID) | (1u << LUTQ_GM))))
-        out->gm_id = exp(acc[LUTQ_GM]);
-    else
-        out->gm_id = id > 0 ? gm / id : NAN;
+    out->gm_id = ok[LUTQ_GM] ? exp(lg[LUTQ_GM]) : id > 0 ? gm / id : NAN;
     out->id_w = id / t->info.w_ref;
     out->gain = gds > 0 ? gm / gds : NAN;
     out->ft = cgg > 0 ? gm / (TWO_PI * cgg) : NAN;

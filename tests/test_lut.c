@@ -30,11 +30,12 @@ static const double ax_l[] = {0.5e-6, 1e-6, 2e-6, 4e-6, 9e-6};
 static const double ax_sb[] = {0, 0.2, 0.5, 0.9};
 static double ax_ds[11], ax_gs[21];
 
-/* What the scheme reproduces: linear in log L and in VSB, quadratic in VDS and VGS (tensor products). */
+/* What the scheme reproduces: linear in log L, quadratic in VSB, VDS and VGS (tensor products). */
 static double quad(double l, double sb, double ds, double gs)
 {
     double x = log(l * 1e6);
-    return (1 + 0.3 * x) * (1 - 0.4 * sb) * (0.5 + 0.2 * ds - 0.08 * ds * ds) * (0.2 + gs + 0.7 * gs * gs);
+    return (1 + 0.3 * x) * (1 - 0.4 * sb + 0.1 * sb * sb) * (0.5 + 0.2 * ds - 0.08 * ds * ds) *
+           (0.2 + gs + 0.7 * gs * gs);
 }
 static double lnid(double l, double sb, double ds, double gs)
 {
@@ -79,8 +80,8 @@ static void synth(LutInfo *in, double **vals, int zero_at_vds0)
 }
 
 /* Cubic Hermite with three-point (parabola) slopes reproduces a quadratic exactly, linear
- * interpolation a linear function; so the tensor scheme (cubic along VGS and VDS, linear along log L
- * and VSB) reproduces such products, and exponentials of them in the log-interpolated quantities (a
+ * interpolation a linear function; so the tensor scheme (cubic along VGS, VDS and VSB, linear along
+ * log L) reproduces such products, and exponentials of them in the log-interpolated quantities (a
  * property of the scheme; common practice, no source). */
 static void test_quadratics_exact(void **state)
 {
