@@ -14,7 +14,9 @@
 int src_load(SrcFile *f, const char *path, SrcLoc from, DiagList *d)
 {
     memset(f, 0, sizeof *f);
-    int fd = open(path, O_RDONLY);
+    /* A file named inside another (an include) is opened without waiting: opening a named pipe that
+       no program writes would otherwise wait for ever. */
+    int fd = open(path, O_RDONLY | (from.file ? O_NONBLOCK : 0));
     struct stat st;
     if (fd < 0 || fstat(fd, &st) != 0) {
         int e = errno;
@@ -34,6 +36,12 @@ int src_load(SrcFile *f, const char *path, SrcLoc from, DiagList *d)
         close(fd);
         diag_add(d, DIAG_ERROR, from.file ? from : (SrcLoc){path, 0, 0},
                  "'%s' is a device, not a file: biaslint reads files and pipes only", path);
+        return ERR_IO;
+    }
+    if (from.file && !S_ISREG(st.st_mode)) {
+        close(fd);
+        diag_add(d, DIAG_ERROR, from, "'%s' is a pipe, not a file: a file named in a netlist must be a regular file",
+                 path);
         return ERR_IO;
     }
     /* Regular files are read in one go; pipes are read until EOF. A regular file gets one spare byte

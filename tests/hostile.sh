@@ -134,6 +134,9 @@ printf 'title\n.lib pair.cir nosection\n.end\n' >section.cir
 bad_case "a .lib section that does not exist" "section.cir:2:[0-9]+: error: .*no section 'nosection'" section.cir --op pair.log
 printf 'title\n.include /dev/zero\n.end\n' >device.cir
 bad_case "an include of a device (/dev/zero)" "device.cir:2:[0-9]+: error: .*is a device" device.cir --op pair.log
+mkfifo nowriter.fifo
+printf 'title\n.include nowriter.fifo\n.end\n' >fifo.cir
+bad_case "an include of a named pipe nobody writes" "fifo.cir:2:10: error: 'nowriter.fifo' is a pipe, not a file" fifo.cir --op pair.log
 for i in $(seq 1 40); do printf '.include inc%d.inc\n' $((i + 1)) >inc$i.inc; done
 printf '* the end\n' >inc41.inc
 printf 'title\n.include inc1.inc\n.end\n' >incdeep.cir
