@@ -327,6 +327,7 @@ static int write_json(const ReportCtx *c, FILE *fp)
         return ERR_INPUT;
     const RepPrep *p = c->prep;
     const Joined *j0 = c->corners[0].joined;
+    flockfile(fp); /* held for the whole report: each of its many stdio calls then skips the lock */
     fputs("{\n  ", fp);
     key(fp, "tool", 1);
     rep_json_str(fp, "biaslint");
@@ -405,9 +406,9 @@ static int write_json(const ReportCtx *c, FILE *fp)
     kv_uint(fp, "failing", failing);
     kv_bool(fp, "failed", failing > 0);
     fputs("}\n}\n", fp);
-    if (fflush(fp) != 0 || ferror(fp))
-        return ERR_IO;
-    return ERR_OK;
+    int bad = fflush(fp) != 0 || ferror(fp);
+    funlockfile(fp);
+    return bad ? ERR_IO : ERR_OK;
 }
 
 const ReportWriter rep_json_writer = {"json", "json", write_json};
