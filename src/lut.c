@@ -655,7 +655,7 @@ unsigned lut_eval_gmid(const Lut *t, double l, double vgs, double vds, double vs
     double cl[2], lin[NLOG];
     cells(t, l, vgs, vds, vsb, st, c);
     sum_floats(t, c, t->pair, 2, cl);
-    sum_stencil(t, c, t->lin, NLOG, lin);
+    sum_stencil(t, st, t->lin, NLOG, lin);
     double idv = !isnan(a0) ? exp((double)a0 + t->lid0) : !isnan(cl[0]) ? exp(cl[0] + t->lid0) : lin[LUTQ_ID];
     double g = !isnan(a1) ? exp((double)a1) : !isnan(cl[1]) ? exp(cl[1]) : idv > 0 ? lin[LUTQ_GM] / idv : NAN;
     *gm_id = isinf(g) ? NAN : g;
@@ -679,16 +679,17 @@ unsigned lut_eval(const Lut *t, double l, double vgs, double vds, double vsb, Lu
     for (int q = 0; q < NLOG; q++)
         if ((have >> q & 1u) && isnan(acc[q]))
             bad |= 1u << q;
-    /* Near a node whose log does not exist (a value <= 0: VDS = 0, a level-1 device cut off), the
-       cell's corners alone: in log scale when they all have logs, else linearly on the values. Each
-       log quantity takes the best it can get; a ratio to id is multiplied by the id found. */
+    /* Near a node whose log does not exist (a value <= 0: VDS = 0, a level-1 device cut off): the
+       cell's corners alone in log scale when they all have logs (a cut-off node next door), else the
+       full stencil on the values themselves (a corner at VDS = 0, where id goes as VDS). Each log
+       quantity takes the best it can get; a ratio to id is multiplied by the id found. */
     double lg[NLOG], cl[HOT_W], lin[NLOG];
     int ok[NLOG];
     if (bad) {
         Stencil c[LUTAX_COUNT];
         cells(t, l, vgs, vds, vsb, st, c);
         sum_floats(t, c, t->hot, HOT_W, cl);
-        sum_stencil(t, c, t->lin, NLOG, lin);
+        sum_stencil(t, st, t->lin, NLOG, lin);
     }
     for (int q = 0; q < NLOG; q++) {
         ok[q] = !(bad >> q & 1u) || !isnan(cl[q]);

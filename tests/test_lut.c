@@ -6,8 +6,11 @@
 #include "testutil.h"
 
 #include "characterize.h"
+#include "join.h"
 #include "lut.h"
 #include "lutref.h"
+#include "netlist.h"
+#include "rules.h"
 
 #define MODELS "fixtures/lut/models.inc"
 
@@ -657,6 +660,103 @@ static void test_level1_square_law(void **state)
     lut_free(t);
 }
 
+/* check --table against the dump itself: one circuit simulated twice by ngspice, once saving every
+ * device quantity, once with node voltages only; the rows join builds from the tables at the node
+ * voltages must match the rows from ngspice's own device data (m, nf, VSB > 0, PMOS, a device
+ * connected the other way round). */
+static int sim_cell(const char *dir, const char *raw, int devices)
+{
+    char deck[700], cmd[1600], cwd[600];
+    if (!getcwd(cwd, sizeof cwd))
+        return -1;
+    snprintf(deck, sizeof deck, "%s/%s.cir", dir, raw);
+    FILE *fp = fopen(deck, "w");
+    if (!fp)
+        return -1;
+    fprintf(fp, "* test_lut: the cell\n.include '%s/fixtures/lut/cell.cir'\n.control\nset filetype=binary\n", cwd);
+    if (devices) {
+        static const char *const dv[] = {"mn1", "mn2", "mp1", "mn3"};
+        fprintf(fp, "save all\n");
+        for (int i = 0; i < 4; i++)
+            fprintf(fp, "save @%s[id] @%s[gm] @%s[gds] @%s[gmbs] @%s[vth] @%s[vdsat] @%s[cgg] @%s[vgs] @%s[vds] @%s[vbs]\n",
+                    dv[i], dv[i], dv[i], dv[i], dv[i], dv[i], dv[i], dv[i], dv[i], dv[i]);
+    }
+    fprintf(fp, "op\nwrite %s/%s\nquit 0\n.endc\n.end\n", dir, raw);
+    fclose(fp);
+    snprintf(cmd, sizeof cmd, "cd '%s' && ngspice -b '%s' >/dev/null 2>&1", dir, deck);
+    int rc = system(cmd);
+    unlink(deck);
+    return rc;
+}
+
+static void test_join_from_tables(void **state)
+{
+    (void)state;
+    if (!tu_have_ngspice())
+        skip();
+    static const double ln[] = {0.5e-6, 1e-6}, lp[] = {1e-6};
+    Lut *tn = build("nch", ln, 2, (CharRange){0, 1.2, 0.025}, (CharRange){0, 1.2, 0.05}, (CharRange){0, 0.4, 0.1});
+    Lut *tp = build("pch", lp, 1, (CharRange){0, 1.2, 0.025}, (CharRange){0, 1.2, 0.05}, (CharRange){0, 0.4, 0.1});
+    const Lut *tables[2] = {tn, tp};
+    char *dir = ref_dir();
+    assert_non_null(dir);
+    assert_int_equal(sim_cell(dir, "full.raw", 1), 0);
+    assert_int_equal(sim_cell(dir, "nodes.raw", 0), 0);
+    char full[600], nodes[600];
+    snprintf(full, sizeof full, "%s/full.raw", dir);
+    snprintf(nodes, sizeof nodes, "%s/nodes.raw", dir);
+    DiagList d;
+    diag_init(&d);
+    Design ds;
+    memset(&ds, 0, sizeof ds);
+    NlOptions no;
+    memset(&no, 0, sizeof no);
+    assert_int_equal(nl_load("fixtures/lut/cell.cir", &no, &ds, &d), ERR_OK);
+    assert_int_equal(ds.ndevs, 4);
+    OpTable *of = NULL, *on = NULL;
+    assert_int_equal(op_read(full, OPFMT_RAW, &of, &d), ERR_OK);
+    assert_int_equal(op_read(nodes, OPFMT_RAW, &on, &d), ERR_OK);
+    assert_int_equal(on->n, 0); /* no device record: node voltages only */
+    unlink(full);
+    unlink(nodes);
+    ref_dir_free(dir);
+    RuleSet *rs = rule_new_defaults(&d);
+    assert_non_null(rs);
+    JoinOptions jo = {0, 0.5};
+    Joined a, b;
+    assert_int_equal(join_run(&ds, of, rs, &jo, &a, &d), ERR_OK);
+    assert_int_equal(join_run_tables(&ds, on, rs, &jo, tables, 2, &b, &d), ERR_OK);
+    assert_int_equal(b.ntable, 4);
+    for (size_t i = 0; i < 4; i++) {
+        const Row *x = &a.rows[i], *y = &b.rows[i];
+        if (getenv("LUT_DEBUG"))
+            fprintf(stderr, "%s: id %g/%g gm/ID %g/%g vgs %g/%g vds %g/%g vsb %g/%g\n", x->dev->name, x->fig.id, y->fig.id,
+                    x->fig.gm_id, y->fig.gm_id, x->fig.vgs, y->fig.vgs, x->fig.vds, y->fig.vds, x->fig.vsb, y->fig.vsb);
+        assert_non_null(x->op);
+        assert_non_null(y->op);
+        assert_true(y->lut != NULL && y->lut_miss == 0 && x->lut == NULL);
+        assert_int_equal(y->fig.region, x->fig.region);
+        assert_int_equal(y->fig.swapped, x->fig.swapped);
+        assert_close(y->fig.vgs, x->fig.vgs, 1e-6);
+        assert_close(y->fig.vds, x->fig.vds, 1e-6);
+        assert_close(y->fig.vsb + 1, x->fig.vsb + 1, 1e-6);
+        assert_close(y->fig.gm_id, x->fig.gm_id, 0.005); /* the accuracy floor */
+        assert_close(y->fig.id, x->fig.id, 0.01);        /* W*m/W_ref scaling, nf in W */
+        assert_close(y->fig.cgg, x->fig.cgg, 0.01);
+    }
+    assert_true(a.rows[3].fig.swapped); /* mn3 really is the other way round */
+    assert_true(a.rows[1].fig.vsb > 0.05);
+    join_free(&a);
+    join_free(&b);
+    rule_free(rs);
+    op_free(of);
+    op_free(on);
+    nl_free(&ds);
+    lut_free(tn);
+    lut_free(tp);
+    diag_free(&d);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -675,6 +775,7 @@ int main(void)
         cmocka_unit_test(test_nch_inverse),
         cmocka_unit_test(test_nch_suggest_w),
         cmocka_unit_test(test_level1_square_law),
+        cmocka_unit_test(test_join_from_tables),
     };
     return cmocka_run_group_tests(tests, setup_nch, teardown_nch);
 }
