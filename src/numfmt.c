@@ -11,6 +11,7 @@
  * library does the work. */
 #include "numfmt.h"
 
+#include <float.h>
 #include <math.h>
 #include <stdint.h>
 #include <stdio.h>
@@ -58,7 +59,15 @@ static inline void put8(char *d, uint32_t v)
 
 /* The digits of q (exactly p of them, p <= 19) in %g style with decimal exponent x of the first
  * digit: trailing zeros dropped, scientific notation when x < -4 or x >= p. */
+static size_t format_gp(char *buf, int neg, uint64_t q, int p, int x, int style);
+
 static size_t format_g(char *buf, int neg, uint64_t q, int p, int x)
+{
+    return format_gp(buf, neg, q, p, x, p);
+}
+
+/* As format_g, with p digits in q but the notation chosen as for precision style (>= p). */
+static size_t format_gp(char *buf, int neg, uint64_t q, int p, int x, int style)
 {
     char dig[24];
     int pos = p;
@@ -81,7 +90,7 @@ static size_t format_g(char *buf, int neg, uint64_t q, int p, int x)
     char *o = buf;
     if (neg)
         *o++ = '-';
-    if (x < -4 || x >= p) {
+    if (x < -4 || x >= style) {
         *o++ = dig[0];
         if (nd > 1) {
             *o++ = '.';
@@ -252,6 +261,75 @@ static inline int reads_back(const Bits *b, const Dec17 *d, uint64_t qp, int p)
     return below && b->low ? dist <= d->p5 >> 2 : dist <= d->p5 >> 1;
 }
 
+#if defined(FLT_EVAL_METHOD) && FLT_EVAL_METHOD == 0
+/* Fast paths in double arithmetic for the common cases, each falling back to the integers when it
+ * cannot be sure. They need doubles without excess precision (FLT_EVAL_METHOD 0: x86-64, AArch64). */
+static const double p10d[23] = {1e0,  1e1,  1e2,  1e3,  1e4,  1e5,  1e6,  1e7,  1e8,  1e9,  1e10, 1e11,
+                                1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22};
+
+/* a * 10^s, |s| <= 22: one correctly rounded operation, 10^s being exact. */
+static inline double scale10(double a, int s)
+{
+    return s >= 0 ? a * p10d[s] : a / p10d[-s];
+}
+
+/* The JSON form of a when a decimal of 6 significant digits reads back to it, as a value printed by
+ * a simulator does, or 0. The candidate t = a * 10^s rounded is an integer below 2^53 and 10^s is
+ * exact, so t / 10^s is correctly rounded (Clinger): if it gives a back, strtod would too, a has a
+ * representation of at most 6 digits, and it is what %.15g prints (at most one 6-digit decimal lies
+ * within half a unit of a). e10 is floor(log10 a) or one less. */
+static size_t short_json(char *buf, int neg, double a, int e10)
+{
+    for (int tries = 0; tries < 2; tries++, e10++) {
+        int s = 5 - e10;
+        if (s < -22 || s > 22)
+            return 0;
+        double x = scale10(a, s);
+        if (!(x < 1e7))
+            return 0;
+        uint64_t q = (uint64_t)(x + 0.5); /* a candidate only: the test below decides */
+        if (q < 100000u)
+            return 0;
+        if (q >= 1000000u)
+            continue; /* the estimate was one low */
+        if (scale10((double)q, -s) != a)
+            return 0;
+        return format_gp(buf, neg, q, 6, e10, 15); /* in %.15g's notation */
+    }
+    return 0;
+}
+
+/* "%.{p}g" of a (p <= 15) when the double product a * 10^s says for sure how it rounds, or 0: it is
+ * off from the exact value by half a unit of its last place at most, so only a fraction that near
+ * one half leaves the rounding in doubt (then the integers decide). */
+static size_t short_g(char *buf, int neg, double a, int e10, int p)
+{
+    for (int tries = 0; tries < 2; tries++, e10++) {
+        int s = p - 1 - e10;
+        if (s < -22 || s > 22)
+            return 0;
+        double x = scale10(a, s);
+        if (!(x < 1e16))
+            return 0;
+        double f = (double)(uint64_t)x, fr = x - f; /* x < 2^54: truncation is floor, exactly */
+        if (f >= p10d[p])
+            continue; /* the estimate was one low */
+        if (f < p10d[p - 1] || fabs(fr - 0.5) <= x * 0x1p-51)
+            return 0;
+        uint64_t q = (uint64_t)f + (fr > 0.5);
+        if (q == pow10_u64[p]) /* rounds up to the next power of ten */
+            return format_g(buf, neg, pow10_u64[p - 1], p, e10 + 1);
+        return format_g(buf, neg, q, p, e10);
+    }
+    return 0;
+}
+#define SHORT_JSON(buf, neg, a, e10) short_json(buf, neg, a, e10)
+#define SHORT_G(buf, neg, a, e10, p) ((p) <= 15 ? short_g(buf, neg, a, e10, p) : 0)
+#else
+#define SHORT_JSON(buf, neg, a, e10) 0
+#define SHORT_G(buf, neg, a, e10, p) 0
+#endif
+
 /* qp as %g digits: p digits, or 10^p (a carry: one digit more, exponent one higher). */
 static size_t put_rounded(char *buf, int neg, uint64_t qp, int p, int e10)
 {
@@ -272,7 +350,12 @@ size_t numfmt_g(char *buf, double v, int prec)
         return (size_t)(neg ? (memcpy(buf, "-0", 3), 2) : (memcpy(buf, "0", 2), 1));
     Bits b;
     Dec17 d;
-    if (!split(a, &b) || !dec17(&b, &d))
+    if (!split(a, &b))
+        return fallback_g(buf, v, prec);
+    size_t n = SHORT_G(buf, neg, a, est_e10(&b), prec);
+    if (n)
+        return n;
+    if (!dec17(&b, &d))
         return fallback_g(buf, v, prec);
     uint64_t qp;
     switch (prec) { /* the usual precisions with constant divisors */
@@ -293,7 +376,12 @@ size_t numfmt_json(char *buf, double v)
         return (size_t)(neg ? (memcpy(buf, "-0", 3), 2) : (memcpy(buf, "0", 2), 1));
     Bits b;
     Dec17 d;
-    if (!split(a, &b) || !dec17(&b, &d) || d.k == 0) /* k 0: a >= 2^53, an integer; rare, left to the library */
+    if (!split(a, &b))
+        return fallback_json(buf, v);
+    size_t n = SHORT_JSON(buf, neg, a, est_e10(&b));
+    if (n)
+        return n;
+    if (!dec17(&b, &d) || d.k == 0) /* k 0: a >= 2^53, an integer; rare, left to the library */
         return fallback_json(buf, v);
     uint64_t qp = round17(&d, 15); /* written out, so that the divisions are by constants */
     if (reads_back(&b, &d, qp, 15))
