@@ -10,7 +10,8 @@
  * - Dump values: NaN, infinity, overflow and denormals, against the C library's strtod (C11 7.22.1.3;
  *   glibc rounds correctly) as the reference for the number conversion.
  * - Fuzz regressions: NUL bytes in quantity names and device names (show, raw, CSV); stray control
- *   bytes in a short netlist. */
+ *   bytes in a short netlist; characterization tables (a short last row, control bytes in header
+ *   values, an interpolant that overshoots). */
 #include "testutil.h"
 
 #include <dirent.h>
@@ -23,6 +24,7 @@
 #include "expr.h"
 #include "join.h"
 #include "lex.h"
+#include "lut.h"
 #include "netlist.h"
 #include "opdump.h"
 #include "rules.h"
@@ -688,6 +690,89 @@ static void test_stray_control_bytes(void **state)
     free(p2);
 }
 
+/* ---- characterization tables (fuzz_lut regressions) ------------------------------------------ */
+
+/* fixtures/lut/good.lut with the first occurrence of each from[i] replaced by to[i], as a file. */
+static char *lut_variant(const char *name, const char *const *from, const char *const *to, size_t n)
+{
+    size_t len;
+    char *text = read_all("fixtures/lut/good.lut", &len);
+    assert_non_null(text);
+    Buf b = BUF_INIT;
+    assert_int_equal(buf_append(&b, text, len), ERR_OK);
+    free(text);
+    for (size_t i = 0; i < n; i++) {
+        char *at = strstr(b.data, from[i]);
+        assert_non_null(at);
+        Buf c = BUF_INIT;
+        size_t pre = (size_t)(at - b.data), fl = strlen(from[i]);
+        assert_int_equal(buf_append(&c, b.data, pre), ERR_OK);
+        assert_int_equal(buf_puts(&c, to[i]), ERR_OK);
+        assert_int_equal(buf_append(&c, b.data + pre + fl, b.len - pre - fl), ERR_OK);
+        buf_free(&b);
+        b = c;
+    }
+    char *path = tu_tmpfile(name, b.data, b.len);
+    buf_free(&b);
+    return path;
+}
+
+static void test_lut_hostile(void **state)
+{
+    (void)state;
+    DiagList d;
+    /* the last row short and without a line ending: its error was located through a NULL line
+       pointer (UBSan: offset applied to a null pointer) */
+    const char *f1[] = {"2e-06,0,1,1,1.3125e-05,5.25e-05,6.25e-07,0.5,0.5\n"}, *t1[] = {"2e-06,0,1,1,1.3125e-05"};
+    char *p1 = lut_variant("short_last.lut", f1, t1, 1);
+    diag_init(&d);
+    assert_null(lut_load(p1, &d));
+    assert_non_null(first_error(&d));
+    assert_int_equal(first_error(&d)->loc.line, 20);
+    diag_free(&d);
+    /* a control byte in a header value: accepted, it was written back as a line that did not load */
+    const char *f2[] = {"# model: tiny"}, *t2[] = {"# model: \r\001tiny"};
+    char *p2 = lut_variant("ctl_key.lut", f2, t2, 1);
+    diag_init(&d);
+    assert_null(lut_load(p2, &d));
+    assert_error_at(&d, "ctl_key.lut", 2, 10, "control byte in the value of header key 'model'");
+    diag_free(&d);
+    /* a table whose log-space interpolant overshoots past the double range: missing, never infinite */
+    const char *f3[] = {"0.8,9.225e-06,", "0.0001025,1.25e-06", "2.625e-05,0.000105,1.25e-06,0.5",
+                        "1,1.28125e-05", "1,0.6,5.25e-07", "3.15e-05,2.25e-07", "5.25e-05,6.25e-07,0.5,0.5\n"},
+               *t3[] = {"0.8,9.225e106,", "001.00025,1625e-06", "2.625e-05,0.000105,1.2e-506,0.0",
+                        "1,71.28125e-05", "1,0.6,2.25e-07", "3.15e-852,.52e-07", "5.25e305,6.25e-07,0.5,0.5\n"};
+    char *p3 = lut_variant("overshoot.lut", f3, t3, 7);
+    diag_init(&d);
+    /* values past 1e30 are refused (the table stores floats) */
+    assert_null(lut_load(p3, &d));
+    assert_error_at(&d, "overshoot.lut", 10, 17, "id_a is '9.225e106': a table value must be below 1e+30");
+    diag_free(&d);
+    /* below that, the same shape: every interpolated value finite or missing */
+    t3[0] = "0.8,9.225e29,";
+    t3[6] = "5.25e29,6.25e-07,0.5,0.5\n";
+    free(p3);
+    p3 = lut_variant("overshoot2.lut", f3, t3, 7);
+    diag_init(&d);
+    Lut *t = lut_load(p3, &d);
+    assert_non_null(t);
+    int inf = 0;
+    for (int i = 0; i <= 2000; i++) {
+        LutVals v;
+        double vgs = 0.6 + 0.4 * (i % 41) / 40.0, l = 1e-6 + 1e-6 * (i % 21) / 20.0, vds = 0.5 + 0.5 * (i % 11) / 10.0;
+        assert_int_equal(lut_eval(t, l, vgs, vds, 0, &v), 0);
+        for (int q = 0; q < LUTQ_COUNT; q++)
+            inf += isinf(v.q[q]) != 0;
+        inf += isinf(v.gm_id) + isinf(v.id_w) + isinf(v.gain) + isinf(v.ft) != 0;
+    }
+    assert_int_equal(inf, 0);
+    lut_free(t);
+    diag_free(&d);
+    free(p1);
+    free(p2);
+    free(p3);
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -702,6 +787,7 @@ int main(void)
         cmocka_unit_test(test_raw_binary_extremes),
         cmocka_unit_test(test_raw_nul_in_name),
         cmocka_unit_test(test_stray_control_bytes),
+        cmocka_unit_test(test_lut_hostile),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }
