@@ -22,7 +22,7 @@ LIB_OBJ  := $(LIB_SRC:src/%.c=$(BUILD)/obj/%.o) $(BUILD)/obj/defaults_rules.o
 TEST_SRC := $(wildcard tests/test_*.c)
 TEST_BIN := $(TEST_SRC:tests/%.c=$(BUILD)/tests/%)
 
-.PHONY: all test unit integration sanitize demo deps clean bench install hostile valgrind fuzz fuzz-bins
+.PHONY: all test unit integration sanitize demo deps clean bench bench-lut install hostile valgrind fuzz fuzz-bins
 
 all: $(BUILD)/biaslint
 
@@ -52,7 +52,7 @@ $(BUILD)/biaslint: $(BUILD)/obj/main.o $(BUILD)/libbiaslint.a
 
 $(BUILD)/tests/%: tests/%.c $(BUILD)/libbiaslint.a tests/testutil.h
 	@mkdir -p $(dir $@)
-	$(CC) $(CPPFLAGS) $(PCFLAGS) $(CMOCKA_CFLAGS) $(CFLAGS) -Wno-conversion -Wno-format-truncation -o $@ $< $(BUILD)/libbiaslint.a $(CMOCKA_LIBS) $(LDLIBS)
+	$(CC) $(CPPFLAGS) $(PCFLAGS) $(CMOCKA_CFLAGS) $(CFLAGS) -Wno-conversion -Wno-format-truncation -MMD -MP -o $@ $< $(BUILD)/libbiaslint.a $(CMOCKA_LIBS) $(LDLIBS)
 
 unit: $(TEST_BIN)
 	@fail=0; for t in $(TEST_BIN); do \
@@ -61,6 +61,7 @@ unit: $(TEST_BIN)
 
 integration: $(BUILD)/biaslint
 	BIASLINT=$(BUILD)/biaslint bash tests/integration.sh
+	BUILD=$(BUILD) bash tests/readme.sh
 
 # Hostile input and the guarantees (tests/hostile.sh): bad-input cases, round trips, limits.
 hostile: $(BUILD)/biaslint
@@ -72,6 +73,16 @@ test: all unit integration hostile
 # against `wc -l` on the same files and a Python peer, with peak RSS and the floors; inputs in build/bench/.
 bench: $(BUILD)/biaslint
 	bash tests/bench/bench.sh $(BUILD)
+
+# Lookup tables (tests/bench/bench_lut.c, run from tests/): characterize time against ngspice alone on
+# the same deck, gm/ID accuracy against ngspice at off-grid points, interpolation speed, with the
+# floors. BENCH_LUT=quick for a shorter run.
+bench: bench-lut
+bench-lut: $(BUILD)/biaslint $(BUILD)/tests/bench_lut
+	cd tests && ../$(BUILD)/tests/bench_lut ../$(BUILD)/biaslint $(BENCH_LUT)
+$(BUILD)/tests/bench_lut: tests/bench/bench_lut.c tests/lutref.h $(BUILD)/libbiaslint.a
+	@mkdir -p $(dir $@)
+	$(CC) $(CPPFLAGS) -Itests $(CFLAGS) -Wno-conversion -o $@ $< $(BUILD)/libbiaslint.a $(LDLIBS)
 
 # The whole suite again, under AddressSanitizer and UndefinedBehaviorSanitizer, in its own build tree.
 sanitize:
@@ -121,7 +132,18 @@ demo: deps
 	$(MAKE) all
 	bash netlists-demo/run-demo.sh $(BUILD)
 
+# make install PREFIX=/usr/local DESTDIR=: the binary, the manual page, the default rules (they are
+# compiled in as well; the copy is for reading and for starting a rule file of your own) and the
+# bash completion script.
+PREFIX ?= /usr/local
+DESTDIR ?=
+install: $(BUILD)/biaslint
+	install -Dm755 $(BUILD)/biaslint $(DESTDIR)$(PREFIX)/bin/biaslint
+	install -Dm644 src/biaslint.1 $(DESTDIR)$(PREFIX)/share/man/man1/biaslint.1
+	install -Dm644 rules/defaults.rules $(DESTDIR)$(PREFIX)/share/biaslint/rules/defaults.rules
+	install -Dm644 src/biaslint.bash $(DESTDIR)$(PREFIX)/share/bash-completion/completions/biaslint
+
 clean:
 	rm -rf build
 
--include $(wildcard $(BUILD)/obj/*.d)
+-include $(wildcard $(BUILD)/obj/*.d $(BUILD)/tests/*.d)

@@ -10,9 +10,21 @@
 #include "primitive.h"
 #include "rules.h"
 
-typedef enum { CMD_NONE = 0, CMD_CHECK, CMD_STRIP } Command;
+typedef enum { CMD_NONE = 0, CMD_CHECK, CMD_STRIP, CMD_MERGE, CMD_EXPLAIN, CMD_CHARACTERIZE, CMD_SIZE } Command;
 
 typedef enum { COLOR_AUTO = 0, COLOR_ALWAYS, COLOR_NEVER } ColorMode;
+
+/* One --op: a dump and the corner it stands for. */
+typedef struct {
+    const char *label;         /* "LABEL" of --op LABEL=FILE; "" for a plain --op FILE (see cli.c) */
+    const char *path;
+} OpCorner;
+
+/* One --report FORMAT=FILE. */
+typedef struct {
+    const char *format;        /* a name rep_lookup knows */
+    const char *path;
+} ReportOut;
 
 typedef struct {
     Command cmd;
@@ -31,12 +43,41 @@ typedef struct {
     size_t max_devices;        /* --max-devices, 0 for the default */
     ColorMode color;           /* --color */
     int quiet;                 /* -q: errors only on stderr */
+    /* corners, more reports, baselines, merging */
+    OpCorner *ops;             /* every --op in order (op is ops[0].path); malloc'd */
+    size_t nops, ops_cap;
+    ReportOut *reports;        /* --report FORMAT=FILE, repeatable; malloc'd */
+    size_t nreports, reports_cap;
+    const char *baseline;      /* --baseline OLD.json */
+    int fail_new;              /* --fail-on new: exit 1 only for new findings at warning or error */
+    unsigned jobs;             /* -j N: dumps read in parallel (0 or 1: one at a time) */
+    const char **runs;         /* merge: the JSON reports to combine; malloc'd array of argv pointers */
+    size_t nruns, runs_cap;
+    int format_given;          /* --format was on the command line */
     /* PDK netlists (README, "PDK netlists") */
     const char *top;           /* --top CELL: check this subcircuit of the netlist */
     const char *prefix;        /* --prefix PATH: its instance path in the simulated testbench */
     PrimSpec *cells;           /* --primitive / --not-primitive, in order; malloc'd */
     size_t ncells, cells_cap;
     int allow_missing_lib;     /* --allow-missing-lib */
+    /* design intent (README, "The rule language") */
+    int no_local_rules;        /* --no-local-rules: do not read NETLIST.rules beside the netlist */
+    const char *explain;       /* explain: the device (name or glob) to explain */
+    /* lookup tables (README, "Lookup tables"): check --table, characterize, size */
+    const char **tables;       /* check --table FILE, repeatable; malloc'd array of argv pointers */
+    size_t ntables, tables_cap;
+    const char *models;        /* characterize --models FILE */
+    const char *section;       /* --section NAME */
+    const char *model;         /* --model NAME */
+    double *lengths;           /* --l LIST (m); malloc'd */
+    size_t nlengths;
+    double vgs_grid[3], vds_grid[3], vsb_grid[3]; /* --vgs/--vds/--vsb START:STOP:STEP; NaN when not given */
+    double temp_c;             /* --temp C, NaN when not given */
+    double w_ref;              /* --wref W (m), NaN when not given */
+    const char *deck;          /* --deck FILE: keep a copy of the ngspice deck */
+    const char *table;         /* size: the table file */
+    double at_l, at_vgs, at_vds, at_vsb; /* size --l --vgs --vds --vsb, NaN when not given */
+    double want_gm_id, want_id, want_gm; /* size --gm-id --id --gm, NaN when not given */
 } Options;
 
 /* Results of cli_parse besides ERR_OK. */

@@ -10,10 +10,22 @@
 #include "opdump.h"
 #include "rules.h"
 
+struct Lut; /* lut.h */
+
 typedef struct {
     const Device *dev;
     const OpRecord *op;  /* NULL: no operating-point data for this device */
     Figures fig;         /* all NaN when op is NULL */
+    /* check --table: figures taken from a characterization table at the bias the node voltages give */
+    const struct Lut *lut; /* the table; op then points at a record join built from it (Joined.derived).
+                              NULL: the figures are the dump's own */
+    unsigned lut_miss;   /* nonzero: the bias or L lies outside lut's grid (bits 1 << LutAxis); op is
+                            NULL and no figure is given: a table never extrapolates */
+    double suggest_w;    /* check --table, a device that misses its gm/ID intent: the W (total over
+                            fingers, per copy of m) that restores the intended gm/ID at its measured
+                            ID, L, VDS and VSB (size_suggest); NaN (or 0 from code that builds rows
+                            by hand) when there is none */
+    double suggest_gmid; /* the gm/ID suggest_w is for, 1/V */
 } Row;
 
 typedef struct {
@@ -23,6 +35,8 @@ typedef struct {
     size_t norphans, orphans_cap;
     size_t nmatched;
     int overlap;                /* overlap capacitance was added to Cgg where the model gives it */
+    OpRecord *derived;          /* check --table: records built from tables, one per table-derived row; malloc'd */
+    size_t ntable;              /* rows whose figures come from a table (Row.lut set, lut_miss 0) */
 } Joined;
 
 typedef struct {
@@ -35,6 +49,15 @@ typedef struct {
  * Devices without data and records without a device are warnings. ERR_OK, ERR_INPUT, ERR_NOMEM. */
 int join_run(const Design *ds, const OpTable *t, const RuleSet *rs, const JoinOptions *opt, Joined *out,
              DiagList *d) MUST_CHECK;
+
+/* join_run, and then for every device the dump has no record for: when the dump holds the voltages of
+ * its four nodes and one of the tables is for its model and type, VGS, VDS, VSB from the node
+ * voltages (n-type convention, drain and source swapped back when VDS < 0) and every figure from the
+ * table, currents, conductances and capacitances scaled by W*m/w_ref (W total over fingers). Such
+ * rows have Row.lut set and count as matched. A device outside the table's grid gets Row.lut and
+ * Row.lut_miss, no figures, and a warning that says why. tables may be NULL when ntables is 0. */
+int join_run_tables(const Design *ds, const OpTable *t, const RuleSet *rs, const JoinOptions *opt,
+                    const struct Lut *const *tables, size_t ntables, Joined *out, DiagList *d) MUST_CHECK;
 void join_free(Joined *j);
 
 #endif

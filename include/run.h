@@ -15,6 +15,10 @@ enum { EXIT_CLEAN = 0, EXIT_FINDINGS = 1, EXIT_BAD_INPUT = 2, EXIT_INTERNAL = 3 
  * status; diagnostics are left in d. No output file is left behind on status 2 or 3. */
 int run_check(const Options *o, FILE *out, int color, DiagList *d);
 
+/* Run `biaslint merge`: the summary of o->runs to o->output (or out) and every --report. Exit status
+ * 0, or 2 (3) with nothing written when a run cannot be read. */
+int run_merge(const Options *o, FILE *out, int color, DiagList *d);
+
 /* Run `biaslint strip`. */
 int run_strip(const Options *o, DiagList *d);
 

@@ -8,6 +8,7 @@
 #include <string.h>
 
 #include "metrics.h"
+#include "numfmt.h"
 #include "report.h"
 
 #define ANN_MAX_FINDING_LINES 6 /* per summary: the worst findings, then a count */
@@ -68,33 +69,65 @@ int ann_strip(const char *text, size_t len, Buf *out)
 
 typedef struct {
     const Design *ds;
-    const Joined *j;
+    const Joined *j;                  /* the corner being written */
     const Findings *f;
     size_t *row_start, *row_list;     /* rows grouped by card */
-    size_t *find_start, *find_list;   /* findings grouped by row */
+    size_t *find_start, *find_list;   /* the corner's findings grouped by row */
     const char *eol;
     Buf *out;
+    const AnnCorner *cs;              /* every corner, and their findings grouped by row */
+    size_t ncs;
+    size_t **fstart, **flist;
+    const char *label;                /* the corner's label on each line, or NULL */
 } Ctx;
+
+static void use_corner(Ctx *c, size_t k)
+{
+    c->j = c->cs[k].joined;
+    c->f = c->cs[k].findings;
+    c->find_start = c->fstart[k];
+    c->find_list = c->flist[k];
+    c->label = c->cs[k].label && c->cs[k].label[0] ? c->cs[k].label : NULL;
+}
+
+/* "*~ [x1.m1] " and, with several corners, "frost: ". */
+static int head(Ctx *c, const char *name)
+{
+    /* appends, not printf: these lines are written for every device of a large design */
+    int rc = buf_puts(c->out, ANN_MARK " [") | buf_puts(c->out, name) | buf_puts(c->out, "] ");
+    if (c->label)
+        rc |= buf_puts(c->out, c->label) | buf_puts(c->out, ": ");
+    return rc;
+}
 
 static int put_eng(Buf *b, const char *label, double v, const char *unit)
 {
     char tmp[32];
-    return buf_printf(b, " | %s %s", label, rep_eng(v, unit, tmp, sizeof tmp));
+    return buf_puts(b, " | ") | buf_puts(b, label) | buf_putc(b, ' ') | buf_puts(b, rep_eng(v, unit, tmp, sizeof tmp));
+}
+
+/* " | LABEL %.3gUNIT", or " | LABEL -" when v is absent. */
+static int put_g3(Buf *b, const char *label, double v, const char *unit)
+{
+    char tmp[NUMFMT_SIZE];
+    int rc = buf_puts(b, " | ") | buf_puts(b, label) | buf_putc(b, ' ');
+    if (isnan(v))
+        return rc | buf_putc(b, '-');
+    return rc | buf_append(b, tmp, numfmt_g(tmp, v, 3)) | buf_puts(b, unit);
 }
 
 static int device_line(Ctx *c, const Row *r)
 {
     const Figures *g = &r->fig;
     Buf *b = c->out;
-    int rc = buf_printf(b, "%s [%s] ", ANN_MARK, r->dev->name);
+    int rc = head(c, r->dev->name);
     if (!r->op)
         return rc | buf_printf(b, "no operating-point data%s", c->eol);
     rc |= buf_puts(b, fig_region_name[g->region]);
     if (g->swapped)
         rc |= buf_puts(b, " (drain/source swapped)");
-    char tmp[32];
-    rc |= buf_printf(b, " | gm/ID %s", isnan(g->gm_id) ? "-" : (snprintf(tmp, sizeof tmp, "%.3g/V", g->gm_id), tmp));
-    rc |= buf_printf(b, " | gain %s", isnan(g->gain) ? "-" : (snprintf(tmp, sizeof tmp, "%.3g", g->gain), tmp));
+    rc |= put_g3(b, "gm/ID", g->gm_id, "/V");
+    rc |= put_g3(b, "gain", g->gain, "");
     rc |= put_eng(b, "margin", g->margin, "V");
     rc |= put_eng(b, "ID", g->id, "A");
     rc |= put_eng(b, "fT", g->ft, "Hz");
@@ -104,8 +137,12 @@ static int device_line(Ctx *c, const Row *r)
 static int finding_line(Ctx *c, const Finding *fd)
 {
     const Row *r = &c->j->rows[fd->row];
-    return buf_printf(c->out, "%s [%s] %s %s: %s%s", ANN_MARK, r->dev->name, rule_severity_name[fd->sev],
-                      rule_check_name[fd->check], fd->message, c->eol);
+    if (fd->waived) /* shown, marked, as in every report */
+        return head(c, r->dev->name) | buf_printf(c->out, "waived %s %s: %s (%s)%s", rule_severity_name[fd->sev],
+                                                  rule_check_name[fd->check], fd->message,
+                                                  fd->waiver_reason ? fd->waiver_reason : "no reason given", c->eol);
+    return head(c, r->dev->name) | buf_printf(c->out, "%s %s: %s%s", rule_severity_name[fd->sev],
+                                              rule_check_name[fd->check], fd->message, c->eol);
 }
 
 static int row_findings(Ctx *c, size_t row)
@@ -137,6 +174,8 @@ static int summary_lines(Ctx *c, const size_t *rows, size_t n)
     const char *leaf = strrchr(card_name, '.');
     Buf *b = c->out;
     int rc = buf_printf(b, "%s [%zu instances of %s]", ANN_MARK, n, leaf ? leaf + 1 : card_name);
+    if (c->label)
+        rc |= buf_printf(b, " %s:", c->label);
     const char *sep = " ";
     for (int g = 0; g < REGION_COUNT; g++) {
         if (!region_n[g])
@@ -166,8 +205,8 @@ static int summary_lines(Ctx *c, const size_t *rows, size_t n)
                 }
             }
     if (nfind > shown)
-        rc |= buf_printf(b, "%s %zu more findings for these instances are in the report%s", ANN_MARK, nfind - shown,
-                         c->eol);
+        rc |= buf_printf(b, "%s %zu more findings for these instances%s%s are in the report%s", ANN_MARK,
+                         nfind - shown, c->label ? " in " : "", c->label ? c->label : "", c->eol);
     return rc;
 }
 
@@ -175,13 +214,21 @@ static int card_lines(Ctx *c, size_t card)
 {
     const size_t *rows = c->row_list + c->row_start[card];
     size_t n = c->row_start[card + 1] - c->row_start[card];
-    if (n > ANN_MAX_INSTANCES)
-        return summary_lines(c, rows, n);
     int rc = ERR_OK;
-    for (size_t k = 0; k < n; k++) {
-        rc |= device_line(c, &c->j->rows[rows[k]]);
-        rc |= row_findings(c, rows[k]);
+    if (n > ANN_MAX_INSTANCES) {
+        for (size_t q = 0; q < c->ncs; q++) {
+            use_corner(c, q);
+            rc |= summary_lines(c, rows, n);
+        }
+        return rc;
     }
+    /* each device with its corners together */
+    for (size_t k = 0; k < n; k++)
+        for (size_t q = 0; q < c->ncs; q++) {
+            use_corner(c, q);
+            rc |= device_line(c, &c->j->rows[rows[k]]);
+            rc |= row_findings(c, rows[k]);
+        }
     return rc;
 }
 
@@ -231,13 +278,31 @@ static int by_anchor(const void *a, const void *b)
 
 int ann_render(const Design *ds, const Joined *j, const Findings *f, Buf *out)
 {
+    AnnCorner one = {NULL, j, f};
+    return ann_render_corners(ds, &one, 1, out);
+}
+
+#define ANN_FLUSH ((size_t)1 << 20) /* ann_write_corners hands the text on in pieces of about this */
+
+/* What ann_render_corners does; with sink set, out is written to it and emptied whenever it holds
+ * ANN_FLUSH bytes (never inside one anchor's block, which the last-line fix below rewrites), so
+ * that a netlist of a million cards is not held twice in memory. *ioerr is set on a write error. */
+static int render(const Design *ds, const AnnCorner *corners, size_t ncorners, Buf *out, FILE *sink, int *ioerr)
+{
+    if (ncorners == 0)
+        return ERR_OK;
     const SrcFile *top = ds->files.files[0];
-    Ctx c = {ds, j, f, NULL, NULL, NULL, NULL, "\n", out};
+    const Joined *j = corners[0].joined;
+    Ctx c = {ds, j, corners[0].findings, NULL, NULL, NULL, NULL, "\n", out, corners, ncorners, NULL, NULL, NULL};
     Slot *slots = malloc((ds->ncards ? ds->ncards : 1) * sizeof *slots);
+    c.fstart = calloc(ncorners, sizeof *c.fstart);
+    c.flist = calloc(ncorners, sizeof *c.flist);
     int rc = ERR_NOMEM;
-    if (!slots || group(ds->ncards, j->n, row_card, j, &c.row_start, &c.row_list) != ERR_OK ||
-        group(j->n, f->n, finding_row, f, &c.find_start, &c.find_list) != ERR_OK)
+    if (!slots || !c.fstart || !c.flist || group(ds->ncards, j->n, row_card, j, &c.row_start, &c.row_list) != ERR_OK)
         goto done;
+    for (size_t k = 0; k < ncorners; k++)
+        if (group(j->n, corners[k].findings->n, finding_row, corners[k].findings, &c.fstart[k], &c.flist[k]) != ERR_OK)
+            goto done;
     size_t nslots = 0;
     for (size_t k = 0; k < ds->ncards; k++)
         if (c.row_start[k + 1] > c.row_start[k])
@@ -255,6 +320,11 @@ int ann_render(const Design *ds, const Joined *j, const Findings *f, Buf *out)
             if (!is_mark(text, eff, off))
                 rc |= buf_append(out, text + off, e - off);
             off = e;
+            if (sink && out->len >= ANN_FLUSH) {
+                if (fwrite(out->data, 1, out->len, sink) != out->len)
+                    *ioerr = 1;
+                buf_clear(out);
+            }
         }
         if (s >= nslots)
             break;
@@ -277,7 +347,28 @@ done:
     free(slots);
     free(c.row_start);
     free(c.row_list);
-    free(c.find_start);
-    free(c.find_list);
+    for (size_t k = 0; c.fstart && k < ncorners; k++)
+        free(c.fstart[k]);
+    for (size_t k = 0; c.flist && k < ncorners; k++)
+        free(c.flist[k]);
+    free(c.fstart);
+    free(c.flist);
     return rc;
+}
+
+int ann_render_corners(const Design *ds, const AnnCorner *corners, size_t ncorners, Buf *out)
+{
+    int ioerr = 0;
+    return render(ds, corners, ncorners, out, NULL, &ioerr);
+}
+
+int ann_write_corners(const Design *ds, const AnnCorner *corners, size_t ncorners, FILE *fp)
+{
+    Buf b = BUF_INIT;
+    int ioerr = 0;
+    int rc = render(ds, corners, ncorners, &b, fp, &ioerr);
+    if (rc == ERR_OK && b.len && fwrite(b.data, 1, b.len, fp) != b.len)
+        ioerr = 1;
+    buf_free(&b);
+    return rc != ERR_OK ? rc : ioerr ? ERR_IO : ERR_OK;
 }

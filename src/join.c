@@ -5,6 +5,7 @@
 #include <math.h>
 
 #include "buf.h"
+#include "lut.h"
 #include <stdlib.h>
 #include <string.h>
 
@@ -81,7 +82,7 @@ static int match_truncated(const Design *ds, const OpTable *t, const OpRecord **
 
 static int report_unmatched(const Design *ds, const OpTable *t, const Joined *j, DiagList *d)
 {
-    size_t missing = ds->ndevs - j->nmatched;
+    size_t missing = ds->ndevs - j->nmatched - j->ntable;
     if (missing) {
         char list[512] = "";
         size_t shown = 0, len = 0;
@@ -114,13 +115,22 @@ static int report_unmatched(const Design *ds, const OpTable *t, const Joined *j,
     return ERR_OK;
 }
 
+static int fill_from_tables(const Design *ds, const OpTable *t, const RuleSet *rs, const JoinOptions *opt,
+                            const Lut *const *tables, size_t ntables, Joined *out, DiagList *d);
+
 int join_run(const Design *ds, const OpTable *t, const RuleSet *rs, const JoinOptions *opt, Joined *out,
              DiagList *d)
+{
+    return join_run_tables(ds, t, rs, opt, NULL, 0, out, d);
+}
+
+int join_run_tables(const Design *ds, const OpTable *t, const RuleSet *rs, const JoinOptions *opt,
+                    const Lut *const *tables, size_t ntables, Joined *out, DiagList *d)
 {
     memset(out, 0, sizeof *out);
     const OpRecord **by_dev = calloc(ds->ndevs ? ds->ndevs : 1, sizeof *by_dev);
     unsigned char *used = calloc(t->n ? t->n : 1, 1);
-    out->rows = malloc((ds->ndevs ? ds->ndevs : 1) * sizeof *out->rows);
+    out->rows = calloc(ds->ndevs ? ds->ndevs : 1, sizeof *out->rows);
     if (!by_dev || !used || !out->rows)
         goto nomem;
     for (size_t i = 0; i < ds->ndevs; i++)
@@ -164,13 +174,17 @@ int join_run(const Design *ds, const OpTable *t, const RuleSet *rs, const JoinOp
         if (BUF_PUSH(out->orphans, out->norphans, out->orphans_cap, &t->recs[i]) != ERR_OK)
             goto nomem;
     }
+    for (size_t i = 0; i < out->n; i++) /* check --table: no width suggestion yet (size_suggest) */
+        out->rows[i].suggest_w = out->rows[i].suggest_gmid = NAN;
+    if (ntables && (rc = fill_from_tables(ds, t, rs, opt, tables, ntables, out, d)) != ERR_OK)
+        goto fail;
     double need = opt->min_match_fraction > 0 ? opt->min_match_fraction : 0.5;
-    if (ds->ndevs && (double)out->nmatched < need * (double)ds->ndevs) {
+    if (ds->ndevs && (double)(out->nmatched + out->ntable) < need * (double)ds->ndevs) {
         rc = diag_add(d, DIAG_ERROR, (SrcLoc){t->file.path, 0, 0},
                       "the dump gives data for only %zu of the netlist's %zu MOSFETs: it looks like the "
                       "output of another netlist (or the names do not follow ngspice's); rerun the "
                       "simulation of this netlist",
-                      out->nmatched, ds->ndevs);
+                      out->nmatched + out->ntable, ds->ndevs);
         goto fail;
     }
     report_unmatched(ds, t, out, d);
@@ -198,6 +212,203 @@ void join_free(Joined *j)
     if (!j)
         return;
     free(j->rows);
+    free(j->derived);
     free(j->orphans);
     memset(j, 0, sizeof *j);
+}
+
+/* ---- figures from characterization tables (check --table) ------------------------------------ */
+
+/* The voltage of net n, from the dump's node voltages (map: design-interned name -> node index);
+ * ground ("0", "gnd") is 0 V. NaN when the dump does not have it. */
+static double net_voltage(const OpTable *t, const StrMap *map, const char *n)
+{
+    if (!n)
+        return NAN;
+    if (strcmp(n, "0") == 0 || strcmp(n, "gnd") == 0)
+        return 0.0;
+    uint32_t k;
+    return strmap_get(map, n, &k) ? t->node_v[k] : NAN;
+}
+
+/* "VGS 1.95 V outside 0..1.8 V" for the first axis in miss. */
+static void miss_text(const Lut *lt, unsigned miss, const double v[LUTAX_COUNT], char *buf, size_t size)
+{
+    const LutInfo *in = lut_info(lt);
+    for (int a = 0; a < LUTAX_COUNT; a++) {
+        if (!(miss >> a & 1u))
+            continue;
+        const double *x = in->axis[a];
+        size_t n = in->n[a];
+        if (a == LUTAX_L)
+            snprintf(buf, size, "L %g um outside %g..%g um", v[a] * 1e6, x[0] * 1e6, x[n - 1] * 1e6);
+        else
+            snprintf(buf, size, "%s %.4g V outside %g..%g V", lut_axis_label[a], v[a], x[0], x[n - 1]);
+        return;
+    }
+    snprintf(buf, size, "outside the grid");
+}
+
+typedef struct {
+    size_t n;
+    char list[600];
+    size_t len;
+} NameList;
+
+static void list_add(NameList *l, const char *name, const char *why)
+{
+    if (l->n++ >= JOIN_NAMES_LISTED)
+        return;
+    int w = snprintf(l->list + l->len, sizeof l->list - l->len, "%s%s%s%s%s", l->len ? ", " : "", name,
+                     why ? " (" : "", why ? why : "", why ? ")" : "");
+    if (w > 0 && (size_t)w < sizeof l->list - l->len)
+        l->len += (size_t)w;
+}
+
+static int fill_from_tables(const Design *ds, const OpTable *t, const RuleSet *rs, const JoinOptions *opt,
+                            const Lut *const *tables, size_t ntables, Joined *out, DiagList *d)
+{
+    size_t want = 0;
+    for (size_t i = 0; i < out->n; i++)
+        want += out->rows[i].op == NULL;
+    if (!want)
+        return ERR_OK;
+    const char *dump = t->file.path;
+    if (!t->nnodes) {
+        diag_add(d, DIAG_WARNING, (SrcLoc){dump, 0, 0},
+                 "%zu MOSFETs have no data in this dump, and the dump holds no node voltages, so the tables "
+                 "cannot stand in for them (an ngspice raw file written after `save all` has them)",
+                 want);
+        return ERR_OK;
+    }
+    /* node name (interned in the design) -> index of its first voltage in the dump */
+    StrMap map = STRMAP_INIT;
+    for (size_t k = 0; k < t->nnodes; k++) {
+        const char *nm = str_lookup(ds->names, t->node_name[k], strlen(t->node_name[k]));
+        if (nm && !strmap_get(&map, nm, NULL) && strmap_put(&map, nm, (uint32_t)k) != ERR_OK) {
+            strmap_free(&map);
+            return diag_nomem(d);
+        }
+    }
+    out->derived = calloc(want, sizeof *out->derived);
+    if (!out->derived) {
+        strmap_free(&map);
+        return diag_nomem(d);
+    }
+    double temp = !isnan(t->temp_c) ? t->temp_c : ds->temp_c;
+    NameList nonodes = {0}, notable = {0}, outside = {0}, narrow = {0};
+    unsigned char *temp_warned = calloc(ntables, 1);
+    if (!temp_warned) {
+        strmap_free(&map);
+        return diag_nomem(d);
+    }
+    for (size_t i = 0; i < out->n; i++) {
+        Row *row = &out->rows[i];
+        const Device *dv = row->dev;
+        if (row->op)
+            continue;
+        double vn[4];
+        int known = 1;
+        for (int k = 0; k < 4; k++)
+            known &= !isnan(vn[k] = net_voltage(t, &map, dv->nets[k]));
+        if (!known) {
+            list_add(&nonodes, dv->name, NULL);
+            continue;
+        }
+        const Lut *lt = lut_for_device(tables, ntables, dv->type, dv->model, temp);
+        if (!lt) {
+            list_add(&notable, dv->name, dv->model);
+            continue;
+        }
+        const LutInfo *in = lut_info(lt);
+        /* as ngspice would report them: from the instance's source pin, times the type sign */
+        double s = dv->type == MOS_PMOS ? -1.0 : 1.0;
+        double vgs = s * (vn[1] - vn[2]), vds = s * (vn[0] - vn[2]), vbs = s * (vn[3] - vn[2]);
+        double q[LUTAX_COUNT] = {dv->l, -vbs, vds, vgs}; /* ORDER LUTAX */
+        if (vds < 0) { /* the drain pin is the source: look up the device the other way round */
+            q[LUTAX_VGS] = vgs - vds;
+            q[LUTAX_VDS] = -vds;
+            q[LUTAX_VSB] = -(vbs - vds);
+        }
+        LutVals v;
+        unsigned miss = lut_eval(lt, q[LUTAX_L], q[LUTAX_VGS], q[LUTAX_VDS], q[LUTAX_VSB], &v);
+        row->lut = lt;
+        row->lut_miss = miss;
+        if (miss) {
+            char why[96];
+            miss_text(lt, miss, q, why, sizeof why);
+            list_add(&outside, dv->name, why);
+            continue;
+        }
+        size_t ti = 0;
+        while (tables[ti] != lt)
+            ti++;
+        if (!isnan(temp) && fabs(in->temp_c - temp) > 0.5 && !temp_warned[ti]) {
+            temp_warned[ti] = 1;
+            diag_add(d, DIAG_WARNING, (SrcLoc){lut_path(lt), 0, 0},
+                     "this table was made at %g C but the simulation ran at %g C: its figures are for "
+                     "another temperature",
+                     in->temp_c, temp);
+        }
+        double fw = dv->nf > 0 ? dv->w / dv->nf : dv->w;
+        if (!(fw >= 0.5 * in->w_ref && fw <= 2 * in->w_ref)) { /* more than a factor 2 away */
+            char why[64];
+            snprintf(why, sizeof why, "finger width %g um", fw * 1e6);
+            list_add(&narrow, dv->name, why);
+        }
+        OpRecord *r = &out->derived[out->ntable++];
+        for (int k = 0; k < OPQ_COUNT; k++)
+            r->q[k] = NAN;
+        r->name = dv->name;
+        r->family = OPFAM_BSIM; /* magnitudes: the table is in the n-type convention */
+        r->model = dv->model;
+        r->loc = (SrcLoc){lut_path(lt), 0, 0};
+        double scale = dv->w * dv->m / in->w_ref;
+        r->q[OPQ_ID] = v.q[LUTQ_ID] * scale;
+        r->q[OPQ_GM] = v.q[LUTQ_GM] * scale;
+        r->q[OPQ_GDS] = v.q[LUTQ_GDS] * scale;
+        r->q[OPQ_GMBS] = v.q[LUTQ_GMBS] * scale;
+        r->q[OPQ_CGG] = v.q[LUTQ_CGG] * scale;
+        r->q[OPQ_CGS] = v.q[LUTQ_CGS] * scale;
+        r->q[OPQ_CGD] = v.q[LUTQ_CGD] * scale;
+        r->q[OPQ_VTH] = v.q[LUTQ_VTH];
+        r->q[OPQ_VDSAT] = v.q[LUTQ_VDSAT];
+        r->q[OPQ_VGS] = vgs;
+        r->q[OPQ_VDS] = vds;
+        r->q[OPQ_VBS] = vbs;
+        r->q[OPQ_W] = dv->w;
+        r->q[OPQ_L] = dv->l;
+        r->q[OPQ_M] = dv->m;
+        r->q[OPQ_NF] = dv->nf;
+        row->op = r;
+        fig_normalize(r, dv->type, &row->fig);
+        if (opt->add_overlap)
+            fig_add_overlap(&row->fig, dv);
+        fig_derive(&row->fig, dv, rule_bands(rs, dv, NULL));
+    }
+    free(temp_warned);
+    strmap_free(&map);
+    if (out->ntable)
+        diag_add(d, DIAG_NOTE, (SrcLoc){dump, 0, 0},
+                 "%zu MOSFETs have no device data in this dump: their figures come from the tables, at the bias "
+                 "of their node voltages",
+                 out->ntable);
+    if (outside.n)
+        diag_add(d, DIAG_WARNING, (SrcLoc){dump, 0, 0},
+                 "%zu MOSFETs lie outside their table's grid and get no figures (a table never extrapolates): %s%s",
+                 outside.n, outside.list, outside.n > JOIN_NAMES_LISTED ? ", ..." : "");
+    if (notable.n)
+        diag_add(d, DIAG_WARNING, (SrcLoc){dump, 0, 0},
+                 "%zu MOSFETs have no data in this dump and no table for their model and type: %s%s", notable.n,
+                 notable.list, notable.n > JOIN_NAMES_LISTED ? ", ..." : "");
+    if (nonodes.n)
+        diag_add(d, DIAG_WARNING, (SrcLoc){dump, 0, 0},
+                 "%zu MOSFETs have no data in this dump and the voltage of one of their nodes is missing too: %s%s",
+                 nonodes.n, nonodes.list, nonodes.n > JOIN_NAMES_LISTED ? ", ..." : "");
+    if (narrow.n)
+        diag_add(d, DIAG_NOTE, (SrcLoc){dump, 0, 0},
+                 "%zu table-derived MOSFETs have a finger width (W/nf) far from their table's reference width; "
+                 "their figures are the table's scaled by W, which leaves out narrow-width effects: %s%s",
+                 narrow.n, narrow.list, narrow.n > JOIN_NAMES_LISTED ? ", ..." : "");
+    return ERR_OK;
 }

@@ -6,6 +6,7 @@
 #include "cli.h"
 #include "diag.h"
 #include "run.h"
+#include "size.h"
 
 static int want_color(ColorMode m, int fd)
 {
@@ -29,6 +30,9 @@ int main(int argc, char **argv)
     DiagList d;
     diag_init(&d);
     int status = o.cmd == CMD_STRIP ? run_strip(&o, &d)
+                 : o.cmd == CMD_SIZE ? run_size(&o, stdout, &d) /* size.h: the table commands */
+                 : o.cmd == CMD_CHARACTERIZE ? run_characterize(&o, isatty(2) ? stderr : NULL, &d)
+                 : o.cmd == CMD_MERGE ? run_merge(&o, stdout, want_color(o.color, o.output ? -1 : 1), &d)
                                     : run_check(&o, stdout, want_color(o.color, o.output ? -1 : 1), &d);
     diag_print(&d, stderr, want_color(o.color, 2), o.quiet ? DIAG_ERROR : DIAG_NOTE);
     diag_free(&d);

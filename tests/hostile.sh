@@ -226,6 +226,16 @@ printf '# rules\nregions nmos strong-below 12/V\nfrobnicate all\n' >unknown.rule
 bad_case "an unknown statement (rules)" 'unknown.rules:3:1: error: ' pair.cir --op pair.log --rules unknown.rules
 printf 'check sat-margin min 50mA error\n' >unit.rules
 bad_case "a limit in the wrong unit (rules)" 'unit.rules:1:[0-9]+: error: ' pair.cir --op pair.log --rules unit.rules
+# nested quantifiers backtrack exponentially on a near miss: the PCRE2 match limit stops the match
+long=maaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaaa!
+printf 'title\n%s\n%s d g 0 0 nch w=1u l=1u\n.end\n' "$M" "$long" >regex.cir
+printf '%s\n%s,1e-5,2e-4,1e-6,0.6,0.9,0,0.4,0.15,1e-14\n' "$csv_head" "$long" >regex.csv
+printf '# a pattern that backtracks exponentially\nsized /(a+)+$/ for: gain >= 1\n' >regex.rules
+t0=$(date +%s%N)
+bad_case "a pathological regular expression (rules)" 'regex.rules:2:7: error: regular expression .*could not be matched.*match limit' \
+    regex.cir --op regex.csv --rules regex.rules
+ms=$(( ($(date +%s%N) - t0) / 1000000 ))
+[ $wrapped -eq 1 ] || [ $ms -lt 3000 ] && ok || bad "the pathological regular expression took $ms ms"
 
 # many diagnostics on one long line: the first ones are shown, the rest counted, in linear time (each
 # used to cost a scan of the line: 200 000 CSV warnings took minutes, 50 000 bad .param values 18 s)
@@ -242,6 +252,21 @@ t0=$(date +%s%N)
 bad_case "50 000 bad values on one .param line" 'wparam.cir:3:[0-9]+: error: .*not a finite number' wparam.cir --op pair.log
 ms=$(( ($(date +%s%N) - t0) / 1000000 ))
 [ $wrapped -eq 1 ] || [ $ms -lt 3000 ] && ok || bad "50 000 bad .param values took $ms ms"
+
+# -- lookup tables (check --table) --
+lut=$here/fixtures/lut
+cp "$lut"/nan.lut "$lut"/ragged.lut "$lut"/nonmono.lut "$lut"/dupcol.lut .
+bad_case "a NaN in a table" 'nan.lut:16:28: error: .*NaN and infinite values are not allowed' pair.cir --op pair.log --table nan.lut
+bad_case "a ragged grid (table)" 'ragged.lut:13:11: error: ragged grid' pair.cir --op pair.log --table ragged.lut
+bad_case "an axis that does not increase (table)" 'nonmono.lut:11:13: error: the vgs_v axis does not increase' \
+    pair.cir --op pair.log --table nonmono.lut
+bad_case "a column given twice (table)" "dupcol.lut:8:53: error: column 'gm_s' appears twice" pair.cir --op pair.log --table dupcol.lut
+sed '2s/.*/# model: \x01tiny/' "$lut"/good.lut >ctlbyte.lut
+bad_case "a control byte in a header value (table)" "ctlbyte.lut:2:10: error: a control byte in the value of header key 'model'" \
+    pair.cir --op pair.log --table ctlbyte.lut
+head -c -1 "$lut"/good.lut | sed '$s/,0.5,0.5$//' >shortlast.lut
+bad_case "a short last row without a line ending (table)" 'shortlast.lut:20:1: error: this row has 7 fields' \
+    pair.cir --op pair.log --table shortlast.lut
 
 # ---------------------------------------------------------------------------------------------------
 # 2. Guarantees.

@@ -108,6 +108,73 @@ cat pdk/tb.log pdk/tb2.log >pdk/both.log
 "$bin" check pdk/lp_ota.spice --top lp_ota --prefix xtop.x2 --op pdk/both.log >/dev/null 2>&1
 [ $? -le 1 ] && ok || bad "--prefix xtop.x2 does not settle the ambiguity"
 
+# ---- corners, every report format, baselines, merging (issue 5) ----
+# pair.cir in three corners of our own: cool (-20 C, 1.62 V), nom (27 C, 1.8 V), warm (85 C, 1.98 V)
+for c in cool:-20:1.62 nom:27:1.8 warm:85:1.98; do
+    IFS=: read -r name temp vdd <<<"$c"
+    printf '.include pair.cir\n.control\noption temp=%s\nalter vdd dc=%s\nop\nset width=200\nshow m : id gm gds gmbs vgs vds vbs vth von vdsat cgg cgs cgd cgb\nquit\n.endc\n.end\n' \
+        "$temp" "$vdd" >pair.$name.ctl
+    ngspice -b pair.$name.ctl >pair.$name.log 2>/dev/null || bad "ngspice could not simulate corner $name"
+done
+mkdir -p rep
+"$bin" check pair.cir --op cool=pair.cool.log --op nom=pair.nom.log --op warm=pair.warm.log -j 3 --annotate rep/ann.cir \
+    --report json=rep/r.json --report csv=rep/r.csv --report junit=rep/r.xml --report sarif=rep/r.sarif \
+    --report html=rep/r.html >rep/r.txt 2>rep/err.txt
+rc=$?
+[ $rc -le 1 ] && ok || { bad "check over three corners exited $rc"; cat rep/err.txt; }
+for f in ann.cir r.json r.csv r.xml r.sarif r.html r.txt; do [ -s rep/$f ] && ok || bad "no rep/$f written"; done
+grep -q 'in 3 corners' rep/r.txt && ok || bad "the text report does not name three corners"
+[ "$(grep -c '^\*~ \[x1\.m1\] \(cool\|nom\|warm\):' rep/ann.cir)" -ge 3 ] && ok || bad "annotation lacks a line per corner"
+"$bin" strip rep/ann.cir -o rep/stripped.cir && cmp -s pair.cir rep/stripped.cir && ok || bad "strip of a corner annotation"
+[ "$(wc -l <rep/r.csv)" -eq 16 ] && ok || bad "CSV: expected a header and 5 devices x 3 corners"
+if command -v python3 >/dev/null; then
+    python3 -c 'import json,sys; d=json.load(open("rep/r.json")); assert d["schema"]==2 and len(d["corners"])==3; assert all(len(x["corners"])==3 for x in d["devices"]); s=json.load(open("rep/r.sarif")); assert s["version"]=="2.1.0" and s["runs"][0]["tool"]["driver"]["name"]=="biaslint"' &&
+        ok || bad "JSON or SARIF do not read back"
+fi
+if command -v xmllint >/dev/null; then
+    xmllint --noout --schema "$here"/fixtures/report/junit.xsd rep/r.xml 2>/dev/null && ok || bad "JUnit XML does not validate"
+fi
+# the HTML in a real browser, when there is one: it renders, its script runs to the end, no script error
+browser=$(command -v chromium || command -v chromium-browser || true)
+if [ -n "$browser" ]; then
+    prof=$(mktemp -d "$work/prof-XXXXXX")
+    flags="--headless --no-sandbox --disable-gpu --disable-background-networking --disable-component-update --disable-sync --no-first-run --user-data-dir=$prof"
+    timeout 90 "$browser" $flags --screenshot="$work/rep/shot.png" --window-size=1400,2000 "file://$work/rep/r.html" \
+        >/dev/null 2>"$work/rep/browser.err"
+    [ "$(stat -c %s rep/shot.png 2>/dev/null || echo 0)" -gt 30000 ] && ok || bad "the HTML screenshot is missing or blank"
+    timeout 90 "$browser" $flags --enable-logging=stderr --v=0 --dump-dom "file://$work/rep/r.html" >rep/dom.html \
+        2>rep/console.txt
+    grep -q 'data-biaslint="ready"' rep/dom.html && ok || bad "the HTML report's script did not run to its end"
+    grep -Eq 'Uncaught|SyntaxError|TypeError|ReferenceError' rep/console.txt && bad "the HTML raised script errors" || ok
+fi
+# a baseline: the same run again has nothing new (exit 0 with --fail-on new although it has findings);
+# a tighter margin makes new findings (exit 1); the new ones are marked
+"$bin" check pair.cir --op cool=pair.cool.log --op nom=pair.nom.log --op warm=pair.warm.log --baseline rep/r.json \
+    --fail-on new --min-margin 80mV --format json -o rep/b0.json 2>/dev/null
+rc=$?
+"$bin" check pair.cir --op cool=pair.cool.log --op nom=pair.nom.log --op warm=pair.warm.log --min-margin 80mV \
+    --format json -o rep/base.json 2>/dev/null
+"$bin" check pair.cir --op cool=pair.cool.log --op nom=pair.nom.log --op warm=pair.warm.log --min-margin 80mV \
+    --baseline rep/base.json --fail-on new >rep/same.txt 2>/dev/null
+[ $? -eq 0 ] && ok || bad "--fail-on new against an identical baseline should exit 0"
+"$bin" check pair.cir --op cool=pair.cool.log --op nom=pair.nom.log --op warm=pair.warm.log --min-margin 400mV \
+    --baseline rep/base.json --fail-on new --report sarif=rep/new.sarif >rep/new.txt 2>/dev/null
+[ $? -eq 1 ] && grep -q '^  new  ' rep/new.txt && grep -q '"baselineState": "new"' rep/new.sarif && ok ||
+    bad "new findings against the baseline should exit 1 and be marked new"
+"$bin" check pair.cir --op cool=pair.cool.log --op nom=pair.nom.log --op warm=pair.warm.log --baseline rep/new.sarif \
+    --report html=rep/x.html >/dev/null 2>rep/bl.err
+[ $? -eq 2 ] && grep -q 'new.sarif:[0-9]*:[0-9]*: .*not a biaslint JSON report' rep/bl.err && [ ! -e rep/x.html ] && ok ||
+    bad "a SARIF file as baseline should exit 2 with a located message and leave no output"
+"$bin" check pair.cir --op pair.nom.log --fail-on new 2>/dev/null; [ $? -eq 2 ] && ok || bad "--fail-on new without --baseline"
+"$bin" check pair.cir --op a=pair.nom.log --op a=pair.cool.log 2>/dev/null; [ $? -eq 2 ] && ok || bad "two corners, one label"
+"$bin" check pair.cir --op pair.nom.log --report junit=rep/same.xml --report sarif=rep/same.xml 2>/dev/null
+[ $? -eq 2 ] && [ ! -e rep/same.xml ] && ok || bad "two reports into one file"
+# merging runs
+"$bin" merge rep/r.json rep/base.json rep/b0.json --format json -o rep/m.json --report html=rep/m.html --report csv=rep/m.csv
+[ $? -eq 0 ] && grep -q '"kind": "merge"' rep/m.json && [ -s rep/m.html ] && [ -s rep/m.csv ] && ok || bad "merge of three runs"
+"$bin" merge rep/r.json rep/r.sarif -o rep/m2.json 2>rep/m.err
+[ $? -eq 2 ] && [ ! -e rep/m2.json ] && grep -q 'r.sarif' rep/m.err && ok || bad "merge of a non-report should exit 2, nothing written"
+
 # ---- usage errors ----
 "$bin" check pair.cir 2>/dev/null; [ $? -eq 2 ] && ok || bad "check without --op should exit 2"
 "$bin" frobnicate 2>/dev/null; [ $? -eq 2 ] && ok || bad "unknown command should exit 2"

@@ -48,6 +48,7 @@ fi
 median() { sort -n "$1" | awk '{ v[NR] = $1 } END { print (NR % 2) ? v[(NR + 1) / 2] : (v[NR / 2] + v[NR / 2 + 1]) / 2 }'; }
 peak() { awk 'BEGIN { m = 0 } $2 > m { m = $2 } END { print m }' "$1"; }
 statuses() { awk '{ print $3 }' "$1" | sort -u | tr '\n' ' '; }
+cpu_median() { awk '{ print $4 }' "$1" | sort -n | awk '{ v[NR] = $1 } END { print (NR % 2) ? v[(NR + 1) / 2] : (v[NR / 2] + v[NR / 2 + 1]) / 2 }'; }
 size_of() { stat -c %s "$@" | awk '{ s += $1 } END { print s }'; }
 
 tmp=$(mktemp -d /tmp/biaslint-bench-XXXXXX)
@@ -98,7 +99,8 @@ cases=(
 )
 
 echo "bench: $(nproc) cores, $(uname -sr), $bin; $runs runs per case (median), peak RSS the largest"
-declare -A T RSS WC IN PEER
+echo "bench: load average before: $(cut -d' ' -f1-3 /proc/loadavg) (other work on the machine stretches wall times; cpu s is user+system)"
+declare -A T RSS WC IN PEER CPU
 for line in "${cases[@]}"; do
     set -- $line
     c=$1 nl=$data/$2 dump=$data/$3
@@ -106,6 +108,7 @@ for line in "${cases[@]}"; do
     time_biaslint "$c" "$nl" "$dump"
     time_wc "$c" "$nl" "$dump"
     T[$c]=$(median "$tmp/$c.t")
+    CPU[$c]=$(cpu_median "$tmp/$c.t")
     RSS[$c]=$(peak "$tmp/$c.t")
     WC[$c]=$(median "$tmp/$c.wc")
     IN[$c]=$(size_of "$nl" "$dump")
@@ -128,14 +131,15 @@ same() {
     done
 }
 
-printf '\n%-14s %8s %9s %10s %9s %8s %8s %7s %9s %7s\n' case devices "input MB" "biaslint s" "RSS MB" RSS/in "wc -l s" "x wc" "peer s" "x peer"
+printf '\n%-14s %8s %9s %10s %7s %9s %7s %8s %7s %9s %7s\n' case devices "input MB" "biaslint s" "cpu s" "RSS MB" RSS/in "wc -l s" "x wc" "peer s" "x peer"
 for line in "${cases[@]}"; do
     set -- $line
     c=$1
-    awk -v c="$c" -v n="$4" -v t="${T[$c]}" -v r="${RSS[$c]}" -v w="${WC[$c]}" -v in_="${IN[$c]}" -v p="${PEER[$c]:-}" 'BEGIN {
-        printf "%-14s %8d %9.1f %10.3f %9.1f %8.2f %8.4f %7.1f", c, n, in_ / 1e6, t, r * 1024 / 1e6, r * 1024 / in_, w, t / w
+    awk -v c="$c" -v n="$4" -v t="${T[$c]}" -v u="${CPU[$c]}" -v r="${RSS[$c]}" -v w="${WC[$c]}" -v in_="${IN[$c]}" -v p="${PEER[$c]:-}" 'BEGIN {
+        printf "%-14s %8d %9.1f %10.3f %7.2f %9.1f %7.2f %8.4f %7.1f", c, n, in_ / 1e6, t, u, r * 1024 / 1e6, r * 1024 / in_, w, t / w
         if (p != "") printf " %9.2f %7.1f\n", p, p / t; else printf " %9s %7s\n", "-", "-" }'
 done
+echo "load average after: $(cut -d' ' -f1-3 /proc/loadavg)"
 same flat100k-csv flat100k-raw flat100k-show
 same flat1m-csv flat1m-raw
 same hier1m-csv hier1m-raw

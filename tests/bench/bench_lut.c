@@ -356,7 +356,7 @@ int main(int argc, char **argv)
     printf("1. characterize time, biaslint end to end against ngspice alone on the same deck\n");
     for (size_t i = 0; i < ndev; i++) {
         snprintf(tables[i], sizeof tables[i], "%s/%s.lut", work, devs[i].label);
-        bench_characterize(bl, &devs[i], work, tables[i], quick ? 1 : 5);
+        bench_characterize(bl, &devs[i], work, tables[i], quick ? 1 : 3);
     }
     for (size_t i = 0; i < ndev; i++)
         bench_own(&devs[i], work);
