@@ -193,6 +193,18 @@ for c in $CORNERS; do
         "$OUT/report.$c.txt" "$OUT/report.$c.json" "$OUT/afe.$c.annotated.cir"
 done
 
+# ---- The design review: all three corners in one run, every report format (README, "Reports").
+ops=""
+for c in $CORNERS; do ops="$ops --op $c=$OUT/afe.$c.log"; done
+# shellcheck disable=SC2086 # ops holds one option pair per corner
+"$BL" check netlists-demo/afe.cir $ops --annotate "$OUT/afe.review.annotated.cir" \
+    --report html="$OUT/review.html" --report sarif="$OUT/review.sarif" --report junit="$OUT/review.junit.xml" \
+    --report csv="$OUT/review.csv" --report json="$OUT/review.json" -o "$OUT/review.txt" 2> "$OUT/review.messages"
+rc=$?
+[ $rc -le 1 ] || { cat "$OUT/review.messages" >&2; die "biaslint failed on the three corners (exit $rc)"; }
+printf 'run-demo: all corners     biaslint exit %d: %s/review.{txt,html,sarif,junit.xml,csv,json}, %s\n' \
+    "$rc" "$OUT" "$OUT/afe.review.annotated.cir"
+
 # ---- Lookup tables (README, "Lookup tables"): the demo's four models characterized with ngspice into
 # tables (lengths as the netlist uses them), then the nominal corner simulated again with node
 # voltages only (no @m vector in the raw file) and checked with the tables standing in for the device
