@@ -493,6 +493,7 @@ static int write_text(const ReportCtx *c, FILE *fp)
     if (!c->prep || c->ncorners == 0)
         return ERR_INPUT;
     const Joined *j = c->corners[0].joined;
+    flockfile(fp); /* held for the whole report: each of its many stdio calls then skips the lock */
     fprintf(fp, "biaslint %s: operating-point check\n", BIASLINT_VERSION);
     fprintf(fp, "Netlist  %s\n", c->netlist_path ? c->netlist_path : "-");
     if (c->ncorners == 1) {
@@ -535,9 +536,9 @@ static int write_text(const ReportCtx *c, FILE *fp)
     findings(c, fp);
     since_baseline(c, fp);
     summary(c, fp);
-    if (fflush(fp) != 0 || ferror(fp))
-        return ERR_IO;
-    return ERR_OK;
+    int bad = fflush(fp) != 0 || ferror(fp);
+    funlockfile(fp);
+    return bad ? ERR_IO : ERR_OK;
 }
 
 const ReportWriter rep_text_writer = {"text", "txt", write_text};
