@@ -655,7 +655,9 @@ unsigned lut_eval_gmid(const Lut *t, double l, double vgs, double vds, double vs
     double cl[2], lin[NLOG];
     cells(t, l, vgs, vds, vsb, st, c);
     sum_floats(t, c, t->pair, 2, cl);
-    sum_stencil(t, st, t->lin, NLOG, lin);
+    int need_lin = (isnan(a0) && isnan(cl[0])) || (isnan(a1) && isnan(cl[1]));
+    if (need_lin)
+        sum_stencil(t, st, t->lin, NLOG, lin);
     double idv = !isnan(a0) ? exp((double)a0 + t->lid0) : !isnan(cl[0]) ? exp(cl[0] + t->lid0) : lin[LUTQ_ID];
     double g = !isnan(a1) ? exp((double)a1) : !isnan(cl[1]) ? exp(cl[1]) : idv > 0 ? lin[LUTQ_GM] / idv : NAN;
     *gm_id = isinf(g) ? NAN : g;
@@ -689,7 +691,11 @@ unsigned lut_eval(const Lut *t, double l, double vgs, double vds, double vsb, Lu
         Stencil c[LUTAX_COUNT];
         cells(t, l, vgs, vds, vsb, st, c);
         sum_floats(t, c, t->hot, HOT_W, cl);
-        sum_stencil(t, st, t->lin, NLOG, lin);
+        int need_lin = 0;
+        for (int q = 0; q < NLOG; q++)
+            need_lin |= (bad >> q & 1u) && isnan(cl[q]);
+        if (need_lin)
+            sum_stencil(t, st, t->lin, NLOG, lin);
     }
     for (int q = 0; q < NLOG; q++) {
         ok[q] = !(bad >> q & 1u) || !isnan(cl[q]);
