@@ -118,6 +118,16 @@ printf 'title\n.func f(x) {f(x)+1}\n%s\nm1 d g 0 0 nch w={f(1)}\n.end\n' "$M" >f
 bad_case "a function that calls itself" 'frec.cir:2:[0-9]+: error: .*nested too deeply' frec.cir --op pair.log
 { printf 'title\n%s\nm1 d g 0 0 nch w={' "$M"; for i in $(seq 300); do printf '('; done; printf 1; for i in $(seq 300); do printf ')'; done; printf '}\n.end\n'; } >deep.cir
 bad_case "expression nesting over the limit (200)" 'deep.cir:3:[0-9]+: error: .*nested too deeply \(more than 200' deep.cir --op pair.log
+# a recursive .func 190 operators deep: about 19 000 nested evaluations before the depth limit, in a
+# 2 MB stack (a quarter of the default) where no sanitizer or valgrind needs more
+{ printf 'title\n.func f(x) {'; for i in $(seq 190); do printf -- -; done; printf 'f(x)}\n%s\nm1 d g 0 0 nch w={f(1)}\n.end\n' "$M"; } >deepfunc.cir
+if [ $wrapped -eq 0 ] && [ $asan -eq 0 ]; then
+    (ulimit -s 2048; exec "$bin" check deepfunc.cir --op pair.log) >/dev/null 2>err.txt
+    rc=$?
+    [ $rc -eq 2 ] && grep -q 'deepfunc.cir:2:203: error: evaluation nested too deeply' err.txt && ok ||
+        { bad "a deep recursive .func in a 2 MB stack: exit $rc"; head -c 300 err.txt; }
+fi
+bad_case "a deep recursive function" 'deepfunc.cir:2:203: error: evaluation nested too deeply' deepfunc.cir --op pair.log
 printf 'title\n%s\nm1 d g 0 nch\n.end\n' "$M" >nodes.cir
 bad_case "a MOSFET card without its four nodes" 'nodes.cir:3:1: error: .*4 nodes' nodes.cir --op pair.log
 printf 'title\n%s\nm1 d g 0 0 nch\nm1 d g 0 0 nch\n.end\n' "$M" >dupname.cir

@@ -9,7 +9,8 @@
  *   settable, give located errors, and the device count is refused before expansion, in bounded time.
  * - Dump values: NaN, infinity, overflow and denormals, against the C library's strtod (C11 7.22.1.3;
  *   glibc rounds correctly) as the reference for the number conversion.
- * - Fuzz regressions: NUL bytes in quantity names and device names (show, raw, CSV); stray control
+ * - Fuzz regressions: NUL bytes in quantity names and device names (show, raw, CSV); a recursive
+ *   function nested deep enough to overflow the evaluator's stack; stray control
  *   bytes in a short netlist; characterization tables (a short last row, control bytes in header
  *   values, an interpolant that overshoots). */
 #include "testutil.h"
@@ -384,6 +385,28 @@ static void test_expression_height_is_settable(void **state)
     free(chain);
     str_free(t);
     arena_free(&a);
+}
+
+/* Fuzz regression (fuzz_expr): a recursive .func whose body nests 190 operators evaluates about
+ * 19 000 levels deep before the call-depth limit stops it; with the argument arrays in every
+ * evaluator frame that overflowed the stack under ASan (and a 2 MB stack without it). */
+static void test_deep_recursive_function(void **state)
+{
+    (void)state;
+    Buf b = BUF_INIT;
+    assert_int_equal(buf_puts(&b, "title\n.func f(x) {"), ERR_OK);
+    for (int i = 0; i < 190; i++)
+        assert_int_equal(buf_putc(&b, '-'), ERR_OK);
+    assert_int_equal(buf_puts(&b, "f(x)}\n.model nch nmos level=14\nm1 d g 0 0 nch w={f(1)}\n.end\n"), ERR_OK);
+    char *path = tu_tmpfile("deepfunc.cir", b.data, b.len);
+    buf_free(&b);
+    Design ds;
+    DiagList d;
+    diag_init(&d);
+    assert_int_equal(nl_load(path, NULL, &ds, &d), ERR_INPUT);
+    assert_error_at(&d, "deepfunc.cir", 2, 203, "evaluation nested too deeply");
+    diag_free(&d);
+    free(path);
 }
 
 static double seconds_now(void)
@@ -780,6 +803,7 @@ int main(void)
         cmocka_unit_test(test_include_depth_is_settable),
         cmocka_unit_test(test_subckt_depth_is_settable),
         cmocka_unit_test(test_expression_height_is_settable),
+        cmocka_unit_test(test_deep_recursive_function),
         cmocka_unit_test(test_device_limit_before_expanding),
         cmocka_unit_test(test_numbers_against_strtod),
         cmocka_unit_test(test_quantity_name_with_nul),
