@@ -68,7 +68,7 @@ fi
 [ $? -le 1 ] && ok || bad "check on the good binary raw file failed"
 "$bin" check pair.cir --op pair_asc.raw >/dev/null 2>&1
 [ $? -le 1 ] && ok || bad "check on the good ASCII raw file failed"
-# the line of the first value of the ASCII raw file, and of the i(@m.x1.m1[id]) declaration
+# the line of 'Values:' in the ASCII raw file, and of the i(@m.x1.m1[id]) declaration
 vline=$(grep -n '^Values:' pair_asc.raw | cut -d: -f1)
 idline=$(grep -n 'i(@m.x1.m1\[id\])' pair_asc.raw | cut -d: -f1)
 idvar=$(sed -n "${idline}p" pair_asc.raw | cut -f2)

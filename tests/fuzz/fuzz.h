@@ -58,8 +58,8 @@ static inline void fuzz_enter_private_dir(void)
     done = 1;
 }
 
-/* An OpTable over data[0..n) as op_read builds one after loading a file (op_read itself is
- * exercised by the netlist target's neighbours in tests/; here the bytes come from memory). */
+/* An OpTable over data[0..n) as op_read builds one after loading a file (op_read's own file
+ * handling is tested in tests/test_opdump.c and tests/hostile.sh; here the bytes come from memory). */
 static inline OpTable *fuzz_table(const uint8_t *data, size_t n, const char *path)
 {
     OpTable *t = calloc(1, sizeof *t);
