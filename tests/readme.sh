@@ -17,7 +17,7 @@ cmds=$(awk '
 ' README.md)
 [ -n "$cmds" ] || { echo "FAIL: no biaslint command found in README.md"; echo "readme: 0 passed, 1 failed"; exit 1; }
 while IFS= read -r cmd; do
-    cmd=$(echo "$cmd" | sed -e 's/^ *//' -e "s#^build/biaslint#$build/biaslint#")
+    cmd=$(echo "$cmd" | sed -e 's/^ *//' -e "s#^build/biaslint#$build/biaslint#" -e "s#\([ =]\)build/demo/#\1$build/demo/#g")
     ( eval "$cmd" ) >/dev/null 2>"$build/readme-cmd.err"
     rc=$?
     if [ $rc -ge 2 ]; then
