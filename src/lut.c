@@ -709,8 +709,8 @@ unsigned lut_eval(const Lut *t, double l, double vgs, double vds, double vsb, Lu
             out->q[q] = acc[q];
         else if (q == LUTQ_ID)
             out->q[q] = idl;
-        else
-            out->q[q] = ok[q] ? idl * exp(lg[q]) : lin[q];
+        else /* logs summed first: a subnormal ID times the exp of a huge ratio was 0 * inf (fuzz_lut) */
+            out->q[q] = !ok[q] ? lin[q] : ok[LUTQ_ID] ? exp(lg[LUTQ_ID] + t->lid0 + lg[q]) : idl * exp(lg[q]);
     }
     double id = out->q[LUTQ_ID], gm = out->q[LUTQ_GM], gds = out->q[LUTQ_GDS], cgg = out->q[LUTQ_CGG];
     out->gm_id = ok[LUTQ_GM] ? exp(lg[LUTQ_GM]) : id > 0 ? gm / id : NAN;

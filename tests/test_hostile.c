@@ -12,7 +12,7 @@
  * - Fuzz regressions: NUL bytes in quantity names and device names (show, raw, CSV); a recursive
  *   function nested deep enough to overflow the evaluator's stack; stray control
  *   bytes in a short netlist; characterization tables (a short last row, control bytes in header
- *   values, an interpolant that overshoots). */
+ *   values, an interpolant that overshoots, a subnormal current). */
 #include "testutil.h"
 
 #include <dirent.h>
@@ -794,6 +794,26 @@ static void test_lut_hostile(void **state)
     free(p1);
     free(p2);
     free(p3);
+    /* a subnormal ID (1.4e-322) at a node: gds there was ID * exp(log(gds/ID)) = 0 * inf, NaN */
+    static const char tiny[] = "# biaslint-table 1\n# model: tiny\n# type: nmos\n# level: 1\n# temp_c: 27\n"
+                               "# w_ref_m: 1e-05\nl_m,vsb_v,vds_v,vgs_v,id_a,gm_s,gds_s,vth_v,vdsat_v\n"
+                               "1e-06,0,0.5,0.6,1.425e-322,6.05e-19,5e-08,0.5,0.1\n"
+                               "1e-06,0,0.5,0.8,9.450e-46,2.15e-05,4.5e-07,0.5,0.3\n"
+                               "1e-06,0,0.5,6,2.5625e-05,4e-16,1.25e-06,0.5,0.5\n";
+    char *p4 = tu_tmpfile("subnormal.lut", tiny, sizeof tiny - 1);
+    diag_init(&d);
+    t = lut_load(p4, &d);
+    assert_non_null(t);
+    static const double vgs[] = {0.6, 0.8, 6}, gds[] = {5e-08, 4.5e-07, 1.25e-06};
+    for (int i = 0; i < 3; i++) {
+        LutVals v;
+        assert_int_equal(lut_eval(t, 1e-6, vgs[i], 0.5, 0, &v), 0);
+        /* the node stores log(gds/ID), 724 here, as a float: about 6e-5 absolute, so 1e-4 relative */
+        assert_close(v.q[LUTQ_GDS], gds[i], 1e-4);
+    }
+    lut_free(t);
+    diag_free(&d);
+    free(p4);
 }
 
 int main(void)
