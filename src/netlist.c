@@ -1394,10 +1394,22 @@ typedef struct {
     uint32_t idx;  /* card order */
 } NameRef;
 
-/* Sort by key, stably: LSD radix sort on the part of the addresses that differs (interned names
- * live close together in the arena), 16 bits a pass. Linear, unlike a comparison sort. */
+/* Sort by key, stably: insertion sort for a handful, else LSD radix sort on the part of the
+ * addresses that differs (interned names live close together in the arena), with digits as wide as
+ * log2(n) (8 to 16 bits), so that a pass costs O(n) and a small subcircuit no small fortune in
+ * counters. Linear, unlike a comparison sort. */
 static int radix_sort(NameRef *a, size_t n)
 {
+    if (n < 32) {
+        for (size_t i = 1; i < n; i++) {
+            NameRef x = a[i];
+            size_t j = i;
+            for (; j > 0 && a[j - 1].key > x.key; j--)
+                a[j] = a[j - 1];
+            a[j] = x;
+        }
+        return ERR_OK;
+    }
     uintptr_t lo = a[0].key, hi = a[0].key;
     for (size_t i = 1; i < n; i++) {
         if (a[i].key < lo)
@@ -1405,26 +1417,30 @@ static int radix_sort(NameRef *a, size_t n)
         if (a[i].key > hi)
             hi = a[i].key;
     }
+    unsigned bits = 8;
+    while (bits < 16 && ((size_t)1 << bits) < n)
+        bits++;
+    size_t radix = (size_t)1 << bits, mask = radix - 1;
     NameRef *b = malloc(n * sizeof *b);
-    size_t *cnt = malloc(65536 * sizeof *cnt);
+    size_t *cnt = malloc(radix * sizeof *cnt);
     if (!b || !cnt) {
         free(b);
         free(cnt);
         return ERR_NOMEM;
     }
     uintptr_t span = hi - lo;
-    for (unsigned sh = 0; sh < sizeof(uintptr_t) * 8 && (span >> sh); sh += 16) {
-        memset(cnt, 0, 65536 * sizeof *cnt);
+    for (unsigned sh = 0; sh < sizeof(uintptr_t) * 8 && (span >> sh); sh += bits) {
+        memset(cnt, 0, radix * sizeof *cnt);
         for (size_t i = 0; i < n; i++)
-            cnt[((a[i].key - lo) >> sh) & 0xffff]++;
+            cnt[((a[i].key - lo) >> sh) & mask]++;
         size_t sum = 0;
-        for (size_t k = 0; k < 65536; k++) {
+        for (size_t k = 0; k < radix; k++) {
             size_t c = cnt[k];
             cnt[k] = sum;
             sum += c;
         }
         for (size_t i = 0; i < n; i++)
-            b[cnt[((a[i].key - lo) >> sh) & 0xffff]++] = a[i];
+            b[cnt[((a[i].key - lo) >> sh) & mask]++] = a[i];
         memcpy(a, b, n * sizeof *a);
     }
     free(b);
