@@ -84,6 +84,9 @@ typedef struct {
     size_t *row_start;        /* refs of device row r: refs[row_start[r] .. row_start[r+1]) (nrows+2 entries) */
     size_t count[SEV_COUNT];  /* groups that are not waived, by worst severity */
     size_t nwaived;           /* waived groups (the last ones) */
+    int tables;               /* some row of some corner involves a lookup table (its figures come from
+                                 one, or its bias lies outside one's grid): the reports then say where
+                                 each row's figures come from */
 } RepPrep;
 
 typedef struct {
@@ -152,6 +155,14 @@ const char *rep_check_name(int k);
 const char *rep_check_help(int k);
 /* The region word of a row: "no data" without a record, else fig_region_name. */
 const char *rep_region_word(const Row *r);
+/* Where a row's figures come from: "dump" (the simulator's device data), "table" (check --table:
+ * looked up at the bias the node voltages give), NULL without figures. */
+const char *rep_source(const Row *r);
+/* The table a row's figures come from, or the table whose grid its bias or L lies outside; NULL when
+ * no table is involved. */
+const char *rep_table_path(const Row *r);
+/* The width suggestion of a row (check --table, a missed gm/ID intent): 1 with *w and *gm_id set. */
+int rep_suggestion(const Row *r, double *w, double *gm_id);
 /* "nmos", "pmos", "unknown". */
 const char *rep_type_name(MosType t);
 /* The netlist file and line of a device's card (NULL, 0 when unknown). */

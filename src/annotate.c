@@ -122,7 +122,8 @@ static int device_line(Ctx *c, const Row *r)
     Buf *b = c->out;
     int rc = head(c, r->dev->name);
     if (!r->op)
-        return rc | buf_printf(b, "no operating-point data%s", c->eol);
+        return rc | buf_printf(b, "%s%s", r->lut_miss ? "no figures: the bias or L lies outside the lookup table's grid"
+                                                      : "no operating-point data", c->eol);
     rc |= buf_puts(b, fig_region_name[g->region]);
     if (g->swapped)
         rc |= buf_puts(b, " (drain/source swapped)");
@@ -131,6 +132,14 @@ static int device_line(Ctx *c, const Row *r)
     rc |= put_eng(b, "margin", g->margin, "V");
     rc |= put_eng(b, "ID", g->id, "A");
     rc |= put_eng(b, "fT", g->ft, "Hz");
+    double w, gm_id;
+    if (rep_suggestion(r, &w, &gm_id)) {
+        char tmp[NUMFMT_SIZE];
+        rc |= put_eng(b, "suggest W", w, "m") | buf_puts(b, " for gm/ID ") |
+              buf_append(b, tmp, numfmt_g(tmp, gm_id, 3)) | buf_puts(b, "/V");
+    }
+    if (r->lut)
+        rc |= buf_puts(b, " | from table ") | buf_puts(b, rep_table_path(r));
     return rc | buf_puts(b, c->eol);
 }
 

@@ -7,6 +7,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "lut.h"
 #include "numfmt.h"
 
 static const ReportWriter *const writers[] = {&rep_text_writer,  &rep_json_writer,  &rep_csv_writer,
@@ -106,6 +107,8 @@ void rep_prep_free(RepPrep *p)
     memset(p, 0, sizeof *p);
 }
 
+static int uses_tables(const ReportCtx *c);
+
 int rep_prepare(ReportCtx *c, RepPrep *p)
 {
     int single = c->ncorners == 0 || (c->single_form && c->ncorners == 1);
@@ -117,6 +120,7 @@ int rep_prepare(ReportCtx *c, RepPrep *p)
         c->single_form = 1;
     }
     size_t K = c->ncorners, nrows = c->corners[0].joined ? c->corners[0].joined->n : 0, N = 0;
+    p->tables = uses_tables(c);
     p->base = malloc((K + 1) * sizeof *p->base);
     if (!p->base)
         goto nomem;
@@ -361,8 +365,42 @@ const char *rep_check_help(int k)
 const char *rep_region_word(const Row *r)
 {
     if (!r->op)
-        return "no data";
+        return r->lut_miss ? "outside table" : "no data";
     return fig_region_name[(unsigned)r->fig.region < REGION_COUNT ? r->fig.region : 0];
+}
+
+const char *rep_source(const Row *r)
+{
+    return !r->op ? NULL : r->lut ? "table" : "dump";
+}
+
+const char *rep_table_path(const Row *r)
+{
+    return r->lut ? lut_path(r->lut) : NULL;
+}
+
+static int uses_tables(const ReportCtx *c)
+{
+    for (size_t k = 0; k < c->ncorners; k++) {
+        const Joined *j = c->corners[k].joined;
+        if (!j)
+            continue;
+        if (j->ntable)
+            return 1;
+        for (size_t i = 0; i < j->n; i++)
+            if (j->rows[i].lut)
+                return 1;
+    }
+    return 0;
+}
+
+int rep_suggestion(const Row *r, double *w, double *gm_id)
+{
+    if (!(r->suggest_w > 0) || !isfinite(r->suggest_w))
+        return 0;
+    *w = r->suggest_w;
+    *gm_id = r->suggest_gmid;
+    return 1;
 }
 
 const char *rep_type_name(MosType t)

@@ -16,7 +16,8 @@
 static const char *const head[] = {
     "corner", "device", "model", "type", "cell", "w", "l", "m", "nf", "file", "line", "has_data", "id",
     "gm", "gds", "gmbs", "vgs", "vds", "vsb", "vth", "vdsat", "cgg", "gm_id", "id_w", "gain", "ft", "vov",
-    "margin", "region", "swapped", "worst_severity", "findings", "baseline", "fails",
+    "margin", "region", "swapped", "worst_severity", "findings", "baseline", "fails", "source", "table",
+    "suggest_w", "suggest_gm_id",
 };
 
 /* A row is built in memory (text fields quoted by libcsv's csv_write) and written in one call: a
@@ -125,6 +126,12 @@ static void row(const ReportCtx *c, Out *o, size_t i, size_t k, Buf *list)
     text(o, list->len ? list->data : NULL);
     text(o, !c->baseline || !list->len ? NULL : any_new ? "new" : "unchanged");
     uint_field(o, fails, 1);
+    text(o, rep_source(r));
+    text(o, rep_table_path(r));
+    double w = NAN, g = NAN;
+    rep_suggestion(r, &w, &g);
+    num(o, w);
+    num(o, g);
     end_row(o);
 }
 

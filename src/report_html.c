@@ -220,6 +220,8 @@ static void corners(const ReportCtx *c, FILE *fp)
         esc(fp, rc->op_path);
         fputs("</code></td><td>", fp);
         esc(fp, format_name(rc->op));
+        if (rc->joined->ntable)
+            fprintf(fp, "; figures of %zu devices from lookup tables, at the bias of the node voltages", rc->joined->ntable);
         const Findings *fs = rc->findings;
         fprintf(fp, "</td><td class=\"n\">%zu</td><td class=\"n\">%zu</td><td class=\"n\">%zu</td><td class=\"n\">%zu</td>"
                     "<td class=\"n\">%zu</td><td class=\"n\">%zu</td></tr>\n",
@@ -771,7 +773,7 @@ static void baseline(const ReportCtx *c, FILE *fp)
             fputs("\">", fp);
             esc(fp, rg->was);
             fputs("</span></td><td><span class=\"rg ", fp);
-            fputs(strcmp(now, "no data") == 0 ? "no-data" : now, fp);
+            fputs(strchr(now, ' ') ? "no-data" : now, fp); /* "no data", "outside table" */
             fputs("\">", fp);
             esc(fp, now);
             fputs("</span></td></tr>\n", fp);
@@ -823,8 +825,14 @@ static void device_row(const ReportCtx *c, FILE *fp, size_t i, size_t k, int wor
     num_cell(fp, r->fig.gain, "");
     num_cell(fp, r->fig.ft, "Hz");
     num_cell(fp, r->fig.margin, "V");
+    if (c->prep->tables) {
+        const char *from = rep_source(r);
+        fputs("<td title=\"", fp);
+        esc(fp, rep_table_path(r) ? rep_table_path(r) : "the simulator's device data");
+        fprintf(fp, "\">%s</td>", from ? from : r->lut_miss ? "outside table" : "-");
+    }
     const char *rg = rep_region_word(r);
-    fprintf(fp, "<td><span class=\"rg %s\">%s</span></td><td>", strcmp(rg, "no data") == 0 ? "no-data" : rg, rg);
+    fprintf(fp, "<td><span class=\"rg %s\">%s</span></td><td>", r->op ? rg : "no-data", rg);
     const RepPrep *p = c->prep;
     const char *sep = "";
     for (size_t q = p->row_start[i]; q < p->row_start[i + 1]; q++)
@@ -855,9 +863,13 @@ static void devices(const ReportCtx *c, FILE *fp)
     if (c->ncorners > 1)
         fputs("<th>corner</th>", fp);
     fputs("<th>model</th><th>type</th><th>W/L</th><th class=\"n\">ID</th><th class=\"n\">gm/ID</th>"
-          "<th class=\"n\">gm/gds</th><th class=\"n\">fT</th><th class=\"n\">VDS&#8722;VDSAT</th><th>region</th>"
-          "<th>findings</th></tr></thead><tbody>\n",
+          "<th class=\"n\">gm/gds</th><th class=\"n\">fT</th><th class=\"n\">VDS&#8722;VDSAT</th>",
           fp);
+    if (c->prep->tables)
+        fputs("<th title=\"where the figures come from: the dump's device data, or a lookup table at the bias of the "
+              "node voltages\">from</th>",
+              fp);
+    fputs("<th>region</th><th>findings</th></tr></thead><tbody>\n", fp);
     size_t shown = 0, seen = 0;
     for (size_t i = 0; i < n; i++)
         for (size_t k = 0; k < c->ncorners; k++) {

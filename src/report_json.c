@@ -127,6 +127,12 @@ static void figures(FILE *fp, const Row *r)
     kv_num(fp, "margin", f->margin);
     kv_str(fp, "region", fig_region_name[(unsigned)f->region < REGION_COUNT && r->op ? f->region : 0]);
     kv_bool(fp, "swapped", r->op && f->swapped);
+    kv_str(fp, "source", rep_source(r));
+    kv_str(fp, "table", rep_table_path(r));
+    double w = NAN, g = NAN;
+    rep_suggestion(r, &w, &g);
+    kv_num(fp, "suggest_w", w);
+    kv_num(fp, "suggest_gm_id", g);
 }
 
 static void device(const ReportCtx *c, FILE *fp, size_t i)

@@ -134,6 +134,13 @@ static void finding_text(const ReportCtx *c, FILE *fp, RepRef r)
             fprintf(fp, ":%u", f->rule.line);
         fputc('\n', fp);
     }
+    const Joined *j = c->corners[r.corner].joined;
+    const Row *row = f->row < j->n ? &j->rows[f->row] : NULL;
+    if (row && row->lut) {
+        fputs(row->op ? "figures from the lookup table " : "no figures: the bias or L lies outside the grid of ", fp);
+        rep_xml_text(fp, rep_table_path(row));
+        fputs(row->op ? " at the bias of the node voltages\n" : "\n", fp);
+    }
     BlStatus st = rep_status(c, r.corner, r.index);
     if (st != BL_NONE)
         fputs(st == BL_NEW ? "new since the baseline\n" : "also in the baseline\n", fp);
@@ -255,6 +262,11 @@ static int suite(const ReportCtx *c, FILE *fp, size_t k, const Counts *cnt, RepR
     fputs("/>\n      <property", fp);
     attr(fp, "name", "corner");
     attr(fp, "value", rc->label);
+    if (c->prep->tables) {
+        fputs("/>\n      <property", fp);
+        attr(fp, "name", "devices_from_tables");
+        fprintf(fp, " value=\"%zu\"", rc->joined->ntable);
+    }
     fputs("/>\n    </properties>\n", fp);
     for (size_t i = 0; i < rc->joined->n; i++)
         if (each_case(c, fp, k, i, scratch, cap, test_case, NULL) != ERR_OK)

@@ -260,6 +260,20 @@ static void result(const ReportCtx *c, FILE *fp, const RepGroup *g, int first)
         fputs(", \"group\": ", fp);
         rep_json_str(fp, f->group);
     }
+    const Row *row = g->row < c->corners[g->worst.corner].joined->n ? &c->corners[g->worst.corner].joined->rows[g->row] : NULL;
+    if (row && row->lut) { /* the worst corner's figures came from a lookup table, not the simulator */
+        fputs(", \"figureSource\": ", fp);
+        rep_json_str(fp, rep_source(row) ? rep_source(row) : "none");
+        fputs(", \"lookupTable\": ", fp);
+        rep_json_str(fp, rep_table_path(row));
+    }
+    double w, gm_id;
+    if (row && rep_suggestion(row, &w, &gm_id)) {
+        fputs(", \"suggestW\": ", fp);
+        rep_json_num(fp, w);
+        fputs(", \"suggestGmId\": ", fp);
+        rep_json_num(fp, gm_id);
+    }
     fputs("}}", fp);
 }
 

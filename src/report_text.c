@@ -14,15 +14,17 @@
 #define NAME_COL_MAX 40   /* longer names overflow their own row instead of widening every row */
 #define SWAPPED_LISTED 20 /* the JSON report lists every swapped device */
 
-enum { C_NAME, C_MODEL, C_WL, C_CORNER, C_ID, C_GMID, C_GAIN, C_FT, C_MARGIN, C_REGION, NCOLS };
+#define TABLES_LISTED 8   /* table files named in the note on table-derived figures */
+
+enum { C_NAME, C_MODEL, C_WL, C_CORNER, C_ID, C_GMID, C_GAIN, C_FT, C_MARGIN, C_DATA, C_REGION, NCOLS };
 static const char *const col_head[NCOLS] = {"device", "model", "W/L", "corner", "ID", "gm/ID", "gm/gds", "fT",
-                                            "VDS-VDSAT", "region"};
-static const int col_right[NCOLS] = {0, 0, 0, 0, 1, 1, 1, 1, 1, 0};
+                                            "VDS-VDSAT", "from", "region"};
+static const int col_right[NCOLS] = {0, 0, 0, 0, 1, 1, 1, 1, 1, 0, 0};
 
 typedef struct {
     char wl[96];
     char id[32], gmid[32], gain[32], ft[32], margin[32];
-    const char *name, *model, *region, *corner;
+    const char *name, *model, *region, *corner, *data;
 } Cells;
 
 static const char *paint(const ReportCtx *c, Severity s)
@@ -66,6 +68,7 @@ static void format_row(const Row *r, const char *corner, Cells *k)
     rep_eng(f->ft, "Hz", k->ft, sizeof k->ft);
     rep_eng(f->margin, "V", k->margin, sizeof k->margin);
     k->region = rep_region_word(r);
+    k->data = rep_source(r) ? rep_source(r) : "-";
 }
 
 static const char *cell(const Cells *k, int col)
@@ -80,6 +83,7 @@ static const char *cell(const Cells *k, int col)
     case C_GAIN: return k->gain;
     case C_FT: return k->ft;
     case C_MARGIN: return k->margin;
+    case C_DATA: return k->data;
     default: return k->region;
     }
 }
@@ -90,10 +94,11 @@ static void pad(FILE *fp, size_t n)
         fputc(' ', fp);
 }
 
-/* Columns in use: the corner column only when there are several corners. */
+/* Columns in use: the corner column only when there are several corners, the column that says
+ * where figures come from only when a table gave some. */
 static int shown(const ReportCtx *c, int col)
 {
-    return col != C_CORNER || c->ncorners > 1;
+    return col == C_CORNER ? c->ncorners > 1 : col == C_DATA ? c->prep->tables : 1;
 }
 
 static void put_cells(const ReportCtx *c, FILE *fp, const char *const *text, const size_t *width)
@@ -155,13 +160,15 @@ static void plural(FILE *fp, size_t n, const char *one, const char *many)
 static void cgg_note(const ReportCtx *c, FILE *fp)
 {
     const Joined *j = c->corners[0].joined;
-    size_t dump = 0, summed = 0, overlap = 0, none = 0;
+    size_t dump = 0, table = 0, summed = 0, overlap = 0, none = 0;
     for (size_t i = 0; i < j->n; i++) {
         const Row *r = &j->rows[i];
         if (!r->op)
             continue;
         if (isnan(r->fig.cgg))
             none++;
+        else if (r->lut)
+            table++;
         else if (r->fig.cgg_summed)
             summed++;
         else
@@ -169,7 +176,7 @@ static void cgg_note(const ReportCtx *c, FILE *fp)
         if (r->fig.cgg_overlap)
             overlap++;
     }
-    if (dump + summed + none == 0)
+    if (dump + table + summed + none == 0)
         return;
     fputs("fT = gm/(2*pi*Cgg). Cgg", fp);
     if (c->ncorners > 1) {
@@ -184,6 +191,12 @@ static void cgg_note(const ReportCtx *c, FILE *fp)
         fputs("the dump's cgg for ", fp);
         plural(fp, dump, "device", "devices");
         fputs(" (BSIM cgg leaves out the gate overlap capacitance)", fp);
+        sep = "; ";
+    }
+    if (table) {
+        fputs(sep, fp);
+        fputs("the lookup table's Cgg for ", fp);
+        plural(fp, table, "device", "devices");
         sep = "; ";
     }
     if (summed) {
@@ -231,6 +244,52 @@ static void swapped_note(const ReportCtx *c, FILE *fp)
         fprintf(fp, " and %zu more (the JSON report lists all)", n - SWAPPED_LISTED);
     if (n)
         fputc('\n', fp);
+}
+
+/* Which devices have figures from lookup tables, from which files, and which lie outside a grid. */
+static void tables_note(const ReportCtx *c, FILE *fp)
+{
+    size_t from = 0, outside = 0, nlisted = 0, more = 0;
+    const char *listed[TABLES_LISTED];
+    for (size_t q = 0; q < c->ncorners; q++) {
+        const Joined *j = c->corners[q].joined;
+        for (size_t i = 0; i < j->n; i++) {
+            const Row *r = &j->rows[i];
+            if (!r->lut)
+                continue;
+            if (r->lut_miss) {
+                outside++;
+                continue;
+            }
+            from++;
+            const char *p = rep_table_path(r);
+            size_t k = 0;
+            while (k < nlisted && strcmp(listed[k], p) != 0)
+                k++;
+            if (k == nlisted && nlisted < TABLES_LISTED)
+                listed[nlisted++] = p;
+            else if (k == nlisted)
+                more = 1;
+        }
+    }
+    if (from + outside == 0)
+        return;
+    fputs("Figures from lookup tables (\"from table\"): ", fp);
+    plural(fp, from, "device", "devices");
+    if (c->ncorners > 1)
+        fputs(" over all corners", fp);
+    fputs(" had no device data in the dump, so VGS, VDS and VSB come from its node voltages and every figure "
+          "from the table of the device's model, scaled by W*nf*m (",
+          fp);
+    for (size_t k = 0; k < nlisted; k++)
+        fprintf(fp, "%s%s", k ? ", " : "", listed[k]);
+    fputs(more ? " and more)" : ")", fp);
+    if (outside) {
+        fputs("; ", fp);
+        plural(fp, outside, "device lies", "devices lie");
+        fputs(" outside a table's grid and get no figures (a table is never extrapolated)", fp);
+    }
+    fputs(".\n", fp);
 }
 
 static void limits_note(const ReportCtx *c, FILE *fp)
@@ -504,7 +563,10 @@ static int write_text(const ReportCtx *c, FILE *fp)
         size_t with = with_data(j);
         fputs("\nDevices  ", fp);
         plural(fp, j->n, "MOSFET", "MOSFETs");
-        fprintf(fp, ", %zu with operating-point data, %zu without; ", with, j->n - with);
+        fprintf(fp, ", %zu with operating-point data", with);
+        if (j->ntable)
+            fprintf(fp, " (%zu of them from lookup tables)", j->ntable);
+        fprintf(fp, ", %zu without; ", j->n - with);
         plural(fp, j->norphans, "record", "records");
         fputs(j->norphans == 1 ? " in the dump matches no device\n\n" : " in the dump match no device\n\n", fp);
     } else {
@@ -522,7 +584,10 @@ static int write_text(const ReportCtx *c, FILE *fp)
             pad(fp, wl - strlen(rc->label));
             fputs("  ", fp);
             op_line(fp, rc);
-            fprintf(fp, ": %zu with data, %zu without; ", with, rc->joined->n - with);
+            fprintf(fp, ": %zu with data", with);
+            if (rc->joined->ntable)
+                fprintf(fp, " (%zu from tables)", rc->joined->ntable);
+            fprintf(fp, ", %zu without; ", rc->joined->n - with);
             plural(fp, rc->joined->norphans, "record", "records");
             fputs(rc->joined->norphans == 1 ? " matches no device\n" : " match no device\n", fp);
         }
@@ -532,6 +597,7 @@ static int write_text(const ReportCtx *c, FILE *fp)
     fputc('\n', fp);
     cgg_note(c, fp);
     swapped_note(c, fp);
+    tables_note(c, fp);
     limits_note(c, fp);
     findings(c, fp);
     since_baseline(c, fp);

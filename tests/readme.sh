@@ -47,5 +47,28 @@ else
     fail=$((fail + 1)); echo "FAIL: make install PREFIX=/opt/bl DESTDIR=$dest"
 fi
 rm -rf "$dest"
+# README "check with tables": on the demo's node-voltage run every report says which figures came
+# from a table, and the JSON and CSV reports carry the width suggestion of the input pair
+tb=$(mktemp -d /tmp/biaslint-tables-XXXXXX)
+"$build/biaslint" check netlists-demo/afe.cir --op "$build/demo/afe.mild.nodes.raw" -q \
+    --table "$build/demo/ncore.lut" --table "$build/demo/pcore.lut" --table "$build/demo/nlong.lut" \
+    --table "$build/demo/plong.lut" --annotate "$tb/a.cir" --report json="$tb/r.json" --report csv="$tb/r.csv" \
+    --report html="$tb/r.html" --report sarif="$tb/r.sarif" --report junit="$tb/r.xml" >"$tb/r.txt" 2>"$tb/err"
+marks() { # file, pattern, count at least
+    local n
+    n=$(grep -c -- "$2" "$1")
+    if [ "${n:-0}" -ge "$3" ]; then pass=$((pass + 1)); else fail=$((fail + 1)); echo "FAIL: $1: $n lines match '$2', want >= $3"; fi
+}
+marks "$tb/r.txt" '  table  ' 34
+marks "$tb/r.txt" '^Figures from lookup tables' 1
+marks "$tb/r.json" '"source": "table", "table": "[^"]*pcore.lut"' 12
+marks "$tb/r.json" '"name": "xpga.mi1".*"suggest_w": 2\.0[0-9]*e-05' 1
+marks "$tb/r.csv" '"table","[^"]*ncore.lut",' 10
+marks "$tb/r.html" '>table</td>' 34
+marks "$tb/r.sarif" '"figureSource": "table"' 1
+marks "$tb/r.xml" 'figures from the lookup table' 1
+marks "$tb/a.cir" '| from table ' 34
+marks "$tb/a.cir" '^\*~ \[xpga.mi1\].*suggest W 20' 1
+rm -rf "$tb"
 echo "readme: $pass passed, $fail failed"
 [ $fail -eq 0 ]

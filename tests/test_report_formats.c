@@ -325,7 +325,7 @@ static void test_csv(void **state)
         CsvRead *r = csv_read(text, n);
         assert_false(r->ragged);
         assert_int_equal(r->rows, 1 + NDEV * nc); /* a header, then a row per device per corner */
-        assert_int_equal(r->width, 34);
+        assert_int_equal(r->width, 38);
         /* device-major, corners in order */
         assert_string_equal(r->cell[1][col(r, "device")], "x1.m1");
         assert_string_equal(r->cell[1][col(r, "corner")], nc == 1 ? "" : "typ");
