@@ -524,9 +524,23 @@ static void check_row(Ctx *c, size_t i, const Row *r, const Need *need)
     char a[48], b[48], why[160];
 
     if (!r->op) {
-        if (nodata->enabled)
+        if (nodata->enabled && r->lut_miss) {
+            static const char *const axis[] = {"L", "VSB", "VDS", "VGS"}; /* LutAxis order */
+            char which[40] = "";
+            int many = 0;
+            for (int k = 0, n = 0; k < 4; k++)
+                if (r->lut_miss & (1u << k)) {
+                    many = n > 0;
+                    n += snprintf(which + n, sizeof which - (size_t)n, "%s%s", n ? " and " : "", axis[k]);
+                }
+            add(c, i, dv, CHECK_NODATA, nodata->sev, NAN, NAN, nodata->from,
+                "no figures: the dump has no record for this device and its %s %s outside the grid of the "
+                "lookup table for its model, which is never extrapolated; nothing was checked",
+                which, many ? "lie" : "lies");
+        } else if (nodata->enabled) {
             add(c, i, dv, CHECK_NODATA, nodata->sev, NAN, NAN, nodata->from,
                 "no operating-point data: the dump has no record for this device, so nothing was checked");
+        }
         return;
     }
     const Figures *f = &r->fig;

@@ -113,6 +113,25 @@ static void test_clean(void **state)
     done(&x, &f);
 }
 
+/* A device outside its lookup table's grid (check --table) has no figures, like one without data,
+ * and its no-data finding names the axes it falls outside of. */
+static void test_outside_table(void **state)
+{
+    (void)state;
+    Spec s[] = {{"m1", 0, 0, 0, 0, 1, GOOD, 0, 0}};
+    Fx x;
+    build(&x, s, 1, NULL);
+    x.j.rows[0].lut_miss = (1u << 0) | (1u << 3); /* LutAxis: L and VGS */
+    Findings f;
+    assert_int_equal(chk_run(x.rs, &x.ds, &x.j, &f), ERR_OK);
+    assert_int_equal(f.n, 1);
+    assert_int_equal(f.items[0].check, CHECK_NODATA);
+    assert_string_equal(f.items[0].message, "no figures: the dump has no record for this device and its L and VGS lie "
+                                            "outside the grid of the lookup table for its model, which is never "
+                                            "extrapolated; nothing was checked");
+    done(&x, &f);
+}
+
 /* One device, the findings it must give, and the sentence of the first. */
 typedef struct {
     const char *what;
@@ -1082,6 +1101,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_clean),
+        cmocka_unit_test(test_outside_table),
         cmocka_unit_test(test_cases),
         cmocka_unit_test(test_order_counts_locations),
         cmocka_unit_test(test_origin_from_user_rules),
