@@ -15,8 +15,13 @@
  *     absent with a warning.
  *   - Device names are canonical ("x1.m3") or ngspice's ("m.x1.m3", "@m.x1.m3"); each device once.
  *   - Comma-separated, RFC 4180 quoting, LF or CRLF line ends.
+ *   - Node voltages instead of devices (for check --table): a header with a column "node" (or
+ *     "net") and a column "v" (or "voltage") and no device column; one row per node, the name
+ *     canonical or wrapped as ngspice writes it ("v(x1.tail)"), the voltage in volts. Other columns
+ *     are ignored.
  * Errors (with line and column): a field that is not a number, a row whose field count differs
- * from the header's, a header without a name column or with a column twice, a device listed twice. */
+ * from the header's, a header without a name column or with a column twice, a device or node listed
+ * twice, a node row without a voltage. */
 #include "opdump.h"
 
 #include <csv.h>
@@ -27,7 +32,7 @@
 
 #include "buf.h"
 
-enum { COL_IGNORE, COL_NAME, COL_MODEL, COL_QTY, COL_EXTRA };
+enum { COL_IGNORE, COL_NAME, COL_MODEL, COL_QTY, COL_EXTRA, COL_NODE, COL_VOLT };
 
 typedef struct {
     uint8_t role;
@@ -56,6 +61,9 @@ typedef struct {
     size_t name_col, model_col;
     size_t extra_name_cap;
     bool has_name;
+    bool nodes;         /* a node-voltage table (node and v columns, no device column) */
+    size_t volt_col;    /* nodes: the voltage column, 0-based */
+    StrMap seen;        /* nodes: interned node name -> the line it was first given on */
     size_t field;       /* index of the next field in the row */
     bool field0_empty;  /* the row's first field was empty (a row of blanks has only that) */
     Buf name;           /* this row: canonical name (reused), empty when none */
@@ -165,6 +173,40 @@ static bool name_header(const char *s, size_t n)
     return fold_eq(s, n, "name") || fold_eq(s, n, "device") || fold_eq(s, n, "instance");
 }
 
+static bool node_header(const char *s, size_t n)
+{
+    return fold_eq(s, n, "node") || fold_eq(s, n, "net");
+}
+
+static bool volt_header(const char *s, size_t n)
+{
+    return fold_eq(s, n, "v") || fold_eq(s, n, "voltage");
+}
+
+/* A header without a device column but with node and voltage columns makes a node-voltage table:
+ * those two columns take their roles, every other column is ignored. Returns whether it does. */
+static bool node_table(Csv *c)
+{
+    size_t node = SIZE_MAX, volt = SIZE_MAX;
+    for (size_t k = 0; k < c->ncols; k++) {
+        const char *h = c->cols[k].head;
+        if (c->cols[k].role != COL_EXTRA)
+            continue;
+        if (node == SIZE_MAX && node_header(h, strlen(h)))
+            node = k;
+        else if (volt == SIZE_MAX && volt_header(h, strlen(h)))
+            volt = k;
+    }
+    if (node == SIZE_MAX || volt == SIZE_MAX)
+        return false;
+    for (size_t k = 0; k < c->ncols; k++)
+        c->cols[k].role = k == node ? COL_NODE : k == volt ? COL_VOLT : COL_IGNORE;
+    c->nodes = true;
+    c->volt_col = volt;
+    c->t->nextra = 0;
+    return true;
+}
+
 static void header_field(Csv *c, const char *s, size_t n)
 {
     OpTable *t = c->t;
@@ -247,6 +289,17 @@ static void data_field(Csv *c, const char *s, size_t n)
         if (n && !(c->model = str_intern(t->names, s, n)))
             c->oom = true;
         return;
+    case COL_NODE:
+        if (n >= 3 && (s[0] == 'v' || s[0] == 'V') && s[1] == '(' && s[n - 1] == ')') {
+            s += 2; /* v(x1.tail), as ngspice names a node's voltage */
+            n -= 3;
+            trim(&s, &n);
+        }
+        buf_clear(&c->name);
+        if (n && buf_append(&c->name, s, n) != ERR_OK)
+            c->oom = true;
+        c->name_field = k;
+        return;
     default:
         break;
     }
@@ -290,9 +343,10 @@ static void end_header(Csv *c)
     OpTable *t = c->t;
     c->have_header = true;
     c->head_line = c->row_line;
-    if (!c->has_name)
+    if (!c->has_name && !node_table(c))
         report(c, DIAG_ERROR, c->row_off, 0,
-               "the header names no device column: one column must be called name, device or instance");
+               "the header names no device column: one column must be called name, device or instance (or, "
+               "for node voltages, two columns node and v)");
     if (c->ncols) {
         c->val = malloc(c->ncols * sizeof *c->val);
         c->set = calloc(c->ncols, sizeof *c->set);
@@ -315,6 +369,36 @@ static void end_header(Csv *c)
     }
 }
 
+/* The row of a node-voltage table: its node and voltage, once per node. */
+static void node_row(Csv *c)
+{
+    OpTable *t = c->t;
+    if (!c->name.len || !c->set[c->volt_col]) {
+        if (!c->row_bad)
+            report(c, DIAG_ERROR, field_off(c, c->name.len ? c->volt_col : c->name_field), 0,
+                   c->name.len ? "this row has no voltage" : "this row has no node name");
+        return;
+    }
+    if (c->row_bad)
+        return;
+    if (memchr(c->name.data, '\0', c->name.len)) {
+        report(c, DIAG_ERROR, field_off(c, c->name_field), (uint32_t)c->name.len,
+               "a NUL byte in this node name: the file is damaged");
+        return;
+    }
+    const char *nm = str_intern(t->names, c->name.data, c->name.len);
+    uint32_t first;
+    if (!nm) {
+        c->oom = true;
+    } else if (strmap_get(&c->seen, nm, &first)) {
+        report(c, DIAG_ERROR, field_off(c, c->name_field), (uint32_t)c->name.len,
+               "node '%s' is listed twice (first on line %u)", nm, first);
+    } else if (strmap_put(&c->seen, nm, c->row_line) != ERR_OK ||
+               op_add_node(t, nm, strlen(nm), c->val[c->volt_col]) != ERR_OK) {
+        c->oom = true;
+    }
+}
+
 static void end_row(Csv *c)
 {
     OpTable *t = c->t;
@@ -329,6 +413,10 @@ static void end_row(Csv *c)
         }
         report(c, DIAG_ERROR, off, 0, "this row has %zu field%s, the header (line %u) has %zu", c->field,
                c->field == 1 ? "" : "s", c->head_line, c->ncols);
+        goto reset;
+    }
+    if (c->nodes) {
+        node_row(c);
         goto reset;
     }
     if (!c->name.len) {
@@ -478,7 +566,7 @@ static int csv_parse_table(OpTable *t, DiagList *d)
             c.row_off = c.loff;
             if (plain_row(lp, n)) {
                 split_row(&c, lp, n);
-                if (c.have_header && !c.has_name) {
+                if (c.have_header && !c.has_name && !c.nodes) {
                     stopped = true;
                     break;
                 }
@@ -486,7 +574,7 @@ static int csv_parse_table(OpTable *t, DiagList *d)
             }
         }
         size_t done = csv_parse(&p, lp, n, on_field, on_row, &c);
-        if (c.have_header && !c.has_name) {
+        if (c.have_header && !c.has_name && !c.nodes) {
             stopped = true; /* every row would repeat the header's error */
             break;
         }
@@ -515,9 +603,10 @@ static int csv_parse_table(OpTable *t, DiagList *d)
     if (!c.oom && !c.have_header) {
         c.nerr++;
         diag_add(d, DIAG_ERROR, (SrcLoc){t->file.path, 0, 0}, "the CSV file has no header line (only comments)");
-    } else if (!c.oom && !c.nerr && t->n == 0) {
+    } else if (!c.oom && !c.nerr && t->n == 0 && t->nnodes == 0) {
         c.nerr++;
-        diag_add(d, DIAG_ERROR, (SrcLoc){t->file.path, c.head_line, 1}, "the CSV table has a header but no device rows");
+        diag_add(d, DIAG_ERROR, (SrcLoc){t->file.path, c.head_line, 1}, "the CSV table has a header but no %s rows",
+                 c.nodes ? "node" : "device");
     }
     rc = c.oom ? diag_nomem(d) : c.nerr ? ERR_INPUT : ERR_OK;
     csv_free(&p);
@@ -525,6 +614,7 @@ static int csv_parse_table(OpTable *t, DiagList *d)
     free(c.val);
     free(c.set);
     buf_free(&c.name);
+    strmap_free(&c.seen);
     return rc;
 }
 
@@ -558,7 +648,7 @@ static int csv_sniff(const char *buf, size_t len)
                 f++;
                 fn -= 2;
             }
-            if (name_header(f, fn))
+            if (name_header(f, fn) || node_header(f, fn))
                 return 90;
             i++;
         }

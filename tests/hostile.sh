@@ -228,6 +228,11 @@ printf 'name,id,gm,id\nx1.m1,1,2,3\n' >dupcolumn.csv
 bad_case "a column given twice (CSV)" "dupcolumn.csv:1:12: error: column 'id' repeats" pair.cir --op dupcolumn.csv
 { good_csv; printf ',6.5e-5,5e-4,6e-6,0.75,0.49,0,0.5,0.25,1e-14\n'; } >noname.csv
 bad_case "a row without a device name (CSV)" 'noname.csv:6:1: error: .*no device name' pair.cir --op noname.csv
+printf 'node,v\nout,0.9\nx1.tail,0.31\nV(OUT),0.9\n' >dupnode.csv
+bad_case "a node listed twice (CSV node voltages)" "dupnode.csv:4:1: error: node 'out' is listed twice \(first on line 2\)" \
+    pair.cir --op dupnode.csv
+printf 'node,v\nout,0.9\nx1.tail,\n' >novolt.csv
+bad_case "a node without a voltage (CSV node voltages)" 'novolt.csv:3:[0-9]+: error: this row has no voltage' pair.cir --op novolt.csv
 { good_csv; printf 'x1.\000mt,6.5e-5,5e-4,6e-6,0.75,0.49,0,0.5,0.25,1e-14\n'; } >nulname.csv
 bad_case "a NUL byte in a device name (CSV)" 'nulname.csv:6:[0-9]+: error: .*NUL byte' pair.cir --op nulname.csv
 

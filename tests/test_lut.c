@@ -681,12 +681,44 @@ static int sim_cell(const char *dir, const char *raw, int devices)
             fprintf(fp, "save @%s[id] @%s[gm] @%s[gds] @%s[gmbs] @%s[vth] @%s[vdsat] @%s[cgg] @%s[vgs] @%s[vds] @%s[vbs]\n",
                     dv[i], dv[i], dv[i], dv[i], dv[i], dv[i], dv[i], dv[i], dv[i], dv[i]);
     }
-    fprintf(fp, "op\nwrite %s/%s\nquit 0\n.endc\n.end\n", dir, raw);
+    if (devices == 2) /* ngspice's own printout of the node voltages, "name = value" (made a CSV below) */
+        fprintf(fp, "op\nprint all\nquit 0\n.endc\n.end\n");
+    else
+        fprintf(fp, "op\nwrite %s/%s\nquit 0\n.endc\n.end\n", dir, raw);
     fclose(fp);
-    snprintf(cmd, sizeof cmd, "cd '%s' && ngspice -b '%s' >/dev/null 2>&1", dir, deck);
+    if (devices == 2)
+        snprintf(cmd, sizeof cmd, "cd '%s' && ngspice -b '%s' >'%s.out' 2>/dev/null", dir, deck, raw);
+    else
+        snprintf(cmd, sizeof cmd, "cd '%s' && ngspice -b '%s' >/dev/null 2>&1", dir, deck);
     int rc = system(cmd);
     unlink(deck);
     return rc;
+}
+
+/* ngspice's `print all` lines "name = value" as a node-voltage CSV (node,v), branch currents left
+ * out: the CSV form of a node-voltage dump (op_csv.c). */
+static int print_to_csv(const char *out, const char *csv)
+{
+    FILE *in = fopen(out, "r"), *fp = fopen(csv, "w");
+    if (!in || !fp) {
+        if (in)
+            fclose(in);
+        if (fp)
+            fclose(fp);
+        return -1;
+    }
+    fprintf(fp, "# node voltages printed by ngspice\nnode,v\n");
+    char line[512], name[256];
+    double v;
+    int n = 0;
+    while (fgets(line, sizeof line, in))
+        if (sscanf(line, "%255s = %lf", name, &v) == 2 && !strchr(name, '#')) {
+            fprintf(fp, "%s,%.7e\n", name, v);
+            n++;
+        }
+    fclose(in);
+    fclose(fp);
+    return n;
 }
 
 static void test_join_from_tables(void **state)
@@ -702,9 +734,13 @@ static void test_join_from_tables(void **state)
     assert_non_null(dir);
     assert_int_equal(sim_cell(dir, "full.raw", 1), 0);
     assert_int_equal(sim_cell(dir, "nodes.raw", 0), 0);
-    char full[600], nodes[600];
+    assert_int_equal(sim_cell(dir, "print", 2), 0);
+    char full[600], nodes[600], printed[600], csv[600];
     snprintf(full, sizeof full, "%s/full.raw", dir);
     snprintf(nodes, sizeof nodes, "%s/nodes.raw", dir);
+    snprintf(printed, sizeof printed, "%s/print.out", dir);
+    snprintf(csv, sizeof csv, "%s/nodes.csv", dir);
+    assert_true(print_to_csv(printed, csv) >= 4);
     DiagList d;
     diag_init(&d);
     Design ds;
@@ -717,8 +753,15 @@ static void test_join_from_tables(void **state)
     assert_int_equal(op_read(full, OPFMT_RAW, &of, &d), ERR_OK);
     assert_int_equal(op_read(nodes, OPFMT_RAW, &on, &d), ERR_OK);
     assert_int_equal(on->n, 0); /* no device record: node voltages only */
+    OpTable *oc = NULL;
+    assert_int_equal(op_read(csv, OPFMT_AUTO, &oc, &d), ERR_OK); /* detected as CSV */
+    assert_int_equal(oc->format, OPFMT_CSV);
+    assert_int_equal(oc->n, 0);
+    assert_true(oc->nnodes >= 4);
     unlink(full);
     unlink(nodes);
+    unlink(printed);
+    unlink(csv);
     ref_dir_free(dir);
     RuleSet *rs = rule_new_defaults(&d);
     assert_non_null(rs);
@@ -727,6 +770,16 @@ static void test_join_from_tables(void **state)
     assert_int_equal(join_run(&ds, of, rs, &jo, &a, &d), ERR_OK);
     assert_int_equal(join_run_tables(&ds, on, rs, &jo, tables, 2, &b, &d), ERR_OK);
     assert_int_equal(b.ntable, 4);
+    Joined cj; /* the same from the CSV of ngspice's printout (7 digits) */
+    assert_int_equal(join_run_tables(&ds, oc, rs, &jo, tables, 2, &cj, &d), ERR_OK);
+    assert_int_equal(cj.ntable, 4);
+    for (size_t i = 0; i < 4; i++) {
+        assert_int_equal(cj.rows[i].fig.region, b.rows[i].fig.region);
+        assert_close(cj.rows[i].fig.vgs, b.rows[i].fig.vgs, 1e-5);
+        assert_close(cj.rows[i].fig.gm_id, b.rows[i].fig.gm_id, 1e-4);
+    }
+    join_free(&cj);
+    op_free(oc);
     for (size_t i = 0; i < 4; i++) {
         const Row *x = &a.rows[i], *y = &b.rows[i];
         if (getenv("LUT_DEBUG"))
