@@ -633,7 +633,9 @@ static void check_row(Ctx *c, size_t i, const Row *r, const Need *need)
                 add(c, i, dv, CHECK_GAIN, SEV_INFO, NAN, gain->limit, gn->from, "cannot check gm/gds: %s", why);
         } else if (gn->req) {
             check_value(c, i, dv, CHECK_GAIN, gn, f->gain, "");
-        } else if (f->gain < gn->lo) {
+        } else if (f->gain < gn->lo && !(f->margin < 0.0)) {
+            /* in triode the gain is low by nature: the triode (or region) finding says what is wrong,
+               and a gain warning beside it would only repeat it; a gain intent still applies */
             add(c, i, dv, CHECK_GAIN, (Severity)gn->sev, f->gain, gn->lo, gn->from,
                 "gm/gds is %s, below the minimum of %s: the device gives little voltage gain",
                 eng(f->gain, "", a, sizeof a), eng(gn->lo, "", b, sizeof b));
