@@ -1,7 +1,8 @@
 /* annotate: the top netlist byte for byte, with biaslint's marked comment lines after each MOSFET
  * card; stripping those lines gives back the original bytes, and annotating again replaces them.
  *
- * An annotation line is a physical line that starts with ANN_MARK. Cards in included files are
+ * An annotation line is a physical line that starts with ANN_MARK, other than the first (the
+ * title, whatever it holds). Cards in included files are
  * annotated after the top-file line (.include/.lib) that brought them in. */
 #ifndef ANNOTATE_H
 #define ANNOTATE_H

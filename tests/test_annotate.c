@@ -136,6 +136,23 @@ static void test_old_lines_replaced(void **state)
     free(out);
 }
 
+/* The first line is the title whatever it holds, even the mark (found by fuzz_netlist: strip and
+ * annotate dropped it, and the annotated file then read its first card as the title). */
+static void test_title_with_the_mark_kept(void **state)
+{
+    (void)state;
+    static const char text[] = "*~ title that looks like an annotation\nm1 d g 0 0 nch\n*~ [m1] old\n.end\n";
+    Fixture x;
+    setup(&x, text, (size_t[]){0}, 1);
+    char *out = render(&x);
+    static const char want[] = "*~ title that looks like an annotation\nm1 d g 0 0 nch\n*~ [m1] moderate";
+    assert_true(strncmp(out, want, sizeof want - 1) == 0);
+    assert_null(strstr(out, "old"));
+    assert_strips_to(out, "*~ title that looks like an annotation\nm1 d g 0 0 nch\n.end\n");
+    assert_strips_to("*~ only a title", "*~ only a title"); /* no line ending: still the title */
+    free(out);
+}
+
 static void test_many_instances_summarised(void **state)
 {
     (void)state;
@@ -178,7 +195,8 @@ static void test_strip_leaves_other_comments(void **state)
     assert_strips_to("t\n* ~ not ours\nm1 a b c d n $ *~ inline\n *~ indented\n",
                      "t\n* ~ not ours\nm1 a b c d n $ *~ inline\n *~ indented\n");
     assert_strips_to("", "");
-    assert_strips_to("*~ only\n", "");
+    assert_strips_to("*~ only\n", "*~ only\n"); /* the title, not an annotation line */
+    assert_strips_to("t\n*~ ours\n", "t\n");
 }
 
 int main(void)
@@ -188,6 +206,7 @@ int main(void)
         cmocka_unit_test(test_crlf_kept),
         cmocka_unit_test(test_no_final_newline),
         cmocka_unit_test(test_old_lines_replaced),
+        cmocka_unit_test(test_title_with_the_mark_kept),
         cmocka_unit_test(test_many_instances_summarised),
         cmocka_unit_test(test_included_card_anchored_at_include),
         cmocka_unit_test(test_strip_leaves_other_comments),
