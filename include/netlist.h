@@ -160,6 +160,7 @@ struct NlSubckt {
     StrMap funcs;         /* .func defined inside: name -> index in Netlist.funcs */
     /* flatten's bookkeeping */
     uint64_t ndev;        /* MOSFETs in one instance, all levels (saturating) */
+    uint64_t nsub;        /* subcircuit instances in one instance, all levels (saturating) */
     uint32_t height;      /* 1 + deepest nesting of X cards below */
     uint8_t state;        /* 0 unvisited, 1 being counted, 2 counted */
     uint8_t *global;      /* per node: 1 when the net is global (0, gnd, .global) (malloc'd) */

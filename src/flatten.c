@@ -471,7 +471,7 @@ static int count(Flat *f)
             }
             continue;
         }
-        uint64_t nd = s->nmos;
+        uint64_t nd = s->nmos, ns = 0;
         uint32_t h = 0;
         for (size_t i = 0; i < s->ninst; i++) {
             const NlInst *x = &s->inst[i];
@@ -481,10 +481,12 @@ static int count(Flat *f)
                 continue;
             }
             nd = nd + x->sub->ndev > NDEV_CAP ? NDEV_CAP : nd + x->sub->ndev;
+            ns = ns + 1 + x->sub->nsub > NDEV_CAP ? NDEV_CAP : ns + 1 + x->sub->nsub;
             if (x->sub->height > h)
                 h = x->sub->height;
         }
         s->ndev = nd;
+        s->nsub = ns;
         s->height = h + 1;
         s->state = 2;
         n--;
@@ -1113,6 +1115,27 @@ int flat_run(Netlist *nl)
         diag_add(nl->d, DIAG_ERROR, (SrcLoc){ds->files.files[0]->path, 0, 0},
                  "the design has %s%llu MOSFETs once flattened, more than the limit of %zu", top->ndev >= NDEV_CAP ? "over " : "",
                  (unsigned long long)top->ndev, nl->opt.max_devices);
+        goto done;
+    }
+    /* Instances are expanded one by one whether or not MOSFETs lie beneath (a cell of resistors still
+       has its parameters evaluated and its other devices listed), so they need a bound of their own:
+       ten levels of ten resistor cells would be 10^10 frames (found by fuzz_netlist). Each instance
+       with a MOSFET beneath is an ancestor of one, so a design within the device limit has at most
+       that limit times its depth of them; the same number bounds all instances. */
+    uint64_t max_inst = (uint64_t)nl->opt.max_devices > UINT64_MAX / 128 ? UINT64_MAX
+                                                                         : (uint64_t)nl->opt.max_devices * top->height;
+    if (top->nsub > max_inst) {
+        const NlInst *big = NULL;
+        for (size_t i = 0; i < top->ninst; i++)
+            if (!top->inst[i].bad && top->inst[i].sub && (!big || top->inst[i].sub->nsub > big->sub->nsub))
+                big = &top->inst[i];
+        nl_error(nl, big->file, big->off, (uint32_t)strlen(big->name),
+                 "the design has %s%llu subcircuit instances once flattened, more than the limit of %llu (%s%llu in "
+                 "one %s): the device limit times the hierarchy's depth of %u, which bounds the instances that hold "
+                 "MOSFETs; --max-devices sets it",
+                 top->nsub >= NDEV_CAP ? "over " : "", (unsigned long long)top->nsub, (unsigned long long)max_inst,
+                 big->sub->nsub >= NDEV_CAP ? "over " : "", (unsigned long long)big->sub->nsub, big->sub->name,
+                 top->height);
         goto done;
     }
     if (top->ndev && !(ds->devs = calloc((size_t)top->ndev, sizeof *ds->devs)))

@@ -169,6 +169,10 @@ bad_case "subcircuits nested over the limit (64)" 'nest.cir:[0-9]+:1: error: .*n
 } >huge.cir
 bad_case "a hierarchy of 10^10 MOSFETs" 'huge.cir:126:1: error: .*10000000000 MOSFETs.*limit of 50000000' huge.cir --op pair.log
 bad_case "a hierarchy over --max-devices" 'huge.cir:126:1: error: .*limit of 1000\b' huge.cir --op pair.log --max-devices 1000
+# the same of resistor cells beside one MOSFET: 10^10 instances with nothing to check, refused as fast
+sed -e 's/^m1 a a 0 0 nch$/r1 a 0 1k/' -e 's/^xtop n l10$/m1 n n 0 0 nch\nxtop n l10/' huge.cir >rhuge.cir
+bad_case "10^10 instances of resistor cells" 'rhuge.cir:127:1: error: .*11111111111 subcircuit instances.*limit of 600000000' \
+    rhuge.cir --op pair.log
 printf 'title\n%s\n.param p=`touch executed-backquote`\nm1 d g 0 0 nch w={p}\n.end\n' "$M" >backq.cir
 bad_case "backquotes in a parameter" 'backq.cir:[34]:[0-9]+: error: ' backq.cir --op pair.log
 

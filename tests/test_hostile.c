@@ -478,6 +478,61 @@ static void test_device_limit_before_expanding(void **state)
     free(path3);
 }
 
+/* A hierarchy with no MOSFET beneath: ten levels of ten instances of a resistor cell (10^10
+ * instances) beside one MOSFET. The device count does not bound such an expansion, so the instance
+ * count does, against the same limit, before anything is expanded (found by fuzz_netlist, as a hang). */
+static void test_instance_limit_before_expanding(void **state)
+{
+    (void)state;
+    Buf b = BUF_INIT;
+    assert_int_equal(buf_puts(&b, "* ten levels of ten resistor cells\n.subckt c0 a b\nr1 a b 1k\n.ends\n"), ERR_OK);
+    for (int i = 1; i <= 10; i++) {
+        assert_int_equal(buf_printf(&b, ".subckt c%d a b\n", i), ERR_OK);
+        for (int k = 1; k <= 10; k++)
+            assert_int_equal(buf_printf(&b, "x%d a b c%d\n", k, i - 1), ERR_OK);
+        assert_int_equal(buf_puts(&b, ".ends\n"), ERR_OK);
+    }
+    assert_int_equal(buf_puts(&b, ".model nch nmos level=1\nm1 d g 0 0 nch w=1u l=1u\nx1 a b c10\n.end\n"), ERR_OK);
+    char *path = tu_tmpfile("deviceless.cir", b.data, b.len);
+    buf_free(&b);
+    Design ds;
+    DiagList d;
+    diag_init(&d);
+    double t0 = seconds_now();
+    assert_int_equal(nl_load(path, NULL, &ds, &d), ERR_INPUT);
+    assert_true(seconds_now() - t0 < 1.0);
+    assert_error_at(&d, "deviceless.cir", 127, 1,
+                    "11111111111 subcircuit instances once flattened, more than the limit of 600000000 "
+                    "(11111111110 in one c10): the device limit times the hierarchy's depth of 12");
+    diag_free(&d);
+    /* three levels of ten and the top's X card: 1111 instances, depth 5; a device limit of 223 allows
+       1115 of them, one of 222 allows 1110 */
+    b = (Buf)BUF_INIT;
+    assert_int_equal(buf_puts(&b, "* three levels\n.subckt c0 a b\nr1 a b 1k\n.ends\n"), ERR_OK);
+    for (int i = 1; i <= 3; i++) {
+        assert_int_equal(buf_printf(&b, ".subckt c%d a b\n", i), ERR_OK);
+        for (int k = 1; k <= 10; k++)
+            assert_int_equal(buf_printf(&b, "x%d a b c%d\n", k, i - 1), ERR_OK);
+        assert_int_equal(buf_puts(&b, ".ends\n"), ERR_OK);
+    }
+    assert_int_equal(buf_puts(&b, ".model nch nmos level=1\nm1 d g 0 0 nch w=1u l=1u\nx1 a b c3\n.end\n"), ERR_OK);
+    char *path2 = tu_tmpfile("deviceless3.cir", b.data, b.len);
+    buf_free(&b);
+    NlOptions o = {.max_devices = 223};
+    diag_init(&d);
+    assert_int_equal(nl_load(path2, &o, &ds, &d), ERR_OK);
+    assert_int_equal(ds.ndevs, 1);
+    nl_free(&ds);
+    diag_free(&d);
+    o.max_devices = 222;
+    diag_init(&d);
+    assert_int_equal(nl_load(path2, &o, &ds, &d), ERR_INPUT);
+    assert_error_at(&d, "deviceless3.cir", 43, 1, "1111 subcircuit instances once flattened, more than the limit of 1110");
+    diag_free(&d);
+    free(path);
+    free(path2);
+}
+
 /* ---- numbers in dumps ------------------------------------------------------------------------ */
 
 static void test_numbers_against_strtod(void **state)
@@ -825,6 +880,7 @@ int main(void)
         cmocka_unit_test(test_expression_height_is_settable),
         cmocka_unit_test(test_deep_recursive_function),
         cmocka_unit_test(test_device_limit_before_expanding),
+        cmocka_unit_test(test_instance_limit_before_expanding),
         cmocka_unit_test(test_numbers_against_strtod),
         cmocka_unit_test(test_quantity_name_with_nul),
         cmocka_unit_test(test_dump_rows),

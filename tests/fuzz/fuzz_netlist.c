@@ -18,7 +18,7 @@
 #define MAXFILES 8
 #define FILE_MARK "*@file "
 
-static const NlOptions limits = {5000, 8, 16}; /* small: expansions stay fast, the limit paths run often */
+static const NlOptions limits = {1000, 8, 16}; /* small: expansions stay fast, the limit paths run often */
 
 static void write_file(const char *name, const uint8_t *p, size_t n)
 {
