@@ -62,7 +62,7 @@ typedef struct {
     size_t extra_name_cap;
     bool has_name;
     bool nodes;         /* a node-voltage table (node and v columns, no device column) */
-    size_t volt_col;    /* nodes: the voltage column, 0-based */
+    size_t node_col, volt_col; /* nodes: the node and voltage columns, 0-based */
     StrMap seen;        /* nodes: interned node name -> the line it was first given on */
     size_t field;       /* index of the next field in the row */
     bool field0_empty;  /* the row's first field was empty (a row of blanks has only that) */
@@ -202,6 +202,7 @@ static bool node_table(Csv *c)
     for (size_t k = 0; k < c->ncols; k++)
         c->cols[k].role = k == node ? COL_NODE : k == volt ? COL_VOLT : COL_IGNORE;
     c->nodes = true;
+    c->node_col = node;
     c->volt_col = volt;
     c->t->nextra = 0;
     return true;
@@ -375,7 +376,7 @@ static void node_row(Csv *c)
     OpTable *t = c->t;
     if (!c->name.len || !c->set[c->volt_col]) {
         if (!c->row_bad)
-            report(c, DIAG_ERROR, field_off(c, c->name.len ? c->volt_col : c->name_field), 0,
+            report(c, DIAG_ERROR, field_off(c, c->name.len ? c->volt_col : c->node_col), 0,
                    c->name.len ? "this row has no voltage" : "this row has no node name");
         return;
     }
