@@ -260,7 +260,8 @@ static void result(const ReportCtx *c, FILE *fp, const RepGroup *g, int first)
         fputs(", \"group\": ", fp);
         rep_json_str(fp, f->group);
     }
-    const Row *row = g->row < c->corners[g->worst.corner].joined->n ? &c->corners[g->worst.corner].joined->rows[g->row] : NULL;
+    const Joined *wj = c->corners[g->worst.corner].joined;
+    const Row *row = g->row < wj->n ? &wj->rows[g->row] : NULL;
     if (row && row->lut) { /* the worst corner's figures came from a lookup table, not the simulator */
         fputs(", \"figureSource\": ", fp);
         rep_json_str(fp, rep_source(row) ? rep_source(row) : "none");
