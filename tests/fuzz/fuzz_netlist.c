@@ -3,6 +3,7 @@
  * `*@file NAME` (a SPICE comment, so seeds stay netlists) starts the next file, written as NAME
  * (letters, digits, '.', '_', '-') beside the top one, where .include and .lib find it.
  *
+ * The intents in its comments are read as check reads them (intent_scan).
  * Promises checked: located errors (fuzz.h); every device has a name, a card, four nets, sizes that
  * are not negative nor infinite (NaN: absent); strip(annotate(x)) == strip(x); annotating the annotated file again gives
  * the same bytes. Limits are set low so that a hierarchy's size is refused before it is expanded. */
@@ -11,6 +12,7 @@
 #include "annotate.h"
 #include "buf.h"
 #include "check.h"
+#include "intent.h"
 #include "join.h"
 #include "metrics.h"
 #include "netlist.h"
@@ -145,6 +147,19 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t n)
     diag_free(&d);
     if (rc == ERR_OK) {
         check_design(&ds);
+        /* the intents written in its comments (`* sized for:`, `* waive:`), as check reads them */
+        IntentSet is;
+        diag_init(&d);
+        int irc = intent_scan(&ds, &is, &d);
+        fuzz_check_diags(&d, irc);
+        for (size_t c = 0; irc != ERR_NOMEM && c < ds.ncards; c++) {
+            size_t ne;
+            const IntentEntry *e = intent_card(&is, (uint32_t)c, &ne);
+            if (ne && !e)
+                fuzz_fail("card %zu has %zu intents and no array", c, ne);
+        }
+        intent_free(&is);
+        diag_free(&d);
         const SrcFile *top = ds.files.files[0];
         Buf ann = BUF_INIT, s1 = BUF_INIT, s2 = BUF_INIT, ann2 = BUF_INIT;
         render(&ds, &ann);
