@@ -249,7 +249,8 @@ static void strays(Scan *s)
             int kind = c < le && !is_annotation(t, ls, le) ? marker(t, c, le, &mark, &body) : -1;
             if (kind >= 0) {
                 Taken key = {fi, mark};
-                if (!bsearch(&key, s->taken, s->ntaken, sizeof *s->taken, by_taken))
+                /* with none taken, taken is NULL, which bsearch must not see (found by fuzz_netlist) */
+                if (!s->ntaken || !bsearch(&key, s->taken, s->ntaken, sizeof *s->taken, by_taken))
                     diag_add(s->d, DIAG_WARNING, (SrcLoc){f->path, lineno, (uint32_t)(mark - ls + 1)},
                              "this '%s' comment is neither on a MOSFET card nor on the comment lines right above "
                              "one, so it applies to nothing",

@@ -266,6 +266,24 @@ static void test_annotation_keeps_them(void **state)
     free(path);
 }
 
+/* A marked comment on no MOSFET card, in a netlist where no comment lands on one: a warning, read
+ * without touching the (empty) list of the comments that did land (found by fuzz_netlist under
+ * UBSan). */
+static void test_stray_alone(void **state)
+{
+    (void)state;
+    static const char text[] = "* stray\n* waive: nothing here\nr1 a 0 1k\n.model n nmos level=1\nm1 a a 0 0 n\n.end\n";
+    char *path = tu_tmpfile("stray.cir", text, sizeof text - 1);
+    Fx x;
+    assert_int_equal(load(&x, path), ERR_OK);
+    assert_int_equal(x.d.nerrors, 0);
+    assert_int_equal(x.d.n, 1);
+    assert_int_equal(x.d.items[0].loc.line, 2);
+    assert_non_null(strstr(x.d.items[0].msg, "applies to nothing"));
+    unload(&x);
+    free(path);
+}
+
 static void test_empty(void **state)
 {
     (void)state;
@@ -286,6 +304,7 @@ int main(void)
         cmocka_unit_test(test_errors),
         cmocka_unit_test(test_crlf_and_include),
         cmocka_unit_test(test_annotation_keeps_them),
+        cmocka_unit_test(test_stray_alone),
         cmocka_unit_test(test_empty),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
