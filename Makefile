@@ -110,7 +110,7 @@ valgrind: $(BUILD)/biaslint
 # (FUZZ_SECONDS=0).
 FUZZ_CC      ?= clang
 FUZZ_SECONDS ?= 60
-FUZZ_TARGETS ?= netlist expr show raw csv rules lut json
+FUZZ_TARGETS ?= netlist expr show raw csv rules lut json sweep
 FUZZ_SAN     ?= address,undefined
 FUZZ_BIN     := build/fuzz$(if $(findstring address,$(FUZZ_SAN)),,-ub)
 FUZZ_CFLAGS  := -O1 -g -fno-omit-frame-pointer -fsanitize=$(FUZZ_SAN) -fno-sanitize-recover=all \

@@ -52,6 +52,12 @@ typedef struct {
 int char_build(const CharSpec *s, CharProgress cb, void *ctx, CharResult *res, DiagList *d) MUST_CHECK;
 void char_result_free(CharResult *res); /* accepts a zeroed result */
 
+/* The reader of ngspice's sweep output on its own (for the fuzz target): the raw file at raw_path
+ * read as char_build reads it for spec s's grid (the model file is not read) and a model of type
+ * type whose family is BSIM (bsim 1) or levels 1 to 3 (bsim 0). ERR_OK, or ERR_INPUT with a
+ * diagnostic, ERR_NOMEM. */
+int char_read_sweep(const CharSpec *s, MosType type, int bsim, const char *raw_path, DiagList *d) MUST_CHECK;
+
 /* char_build, then the table file written atomically to out (never over the model file). */
 int char_run(const CharSpec *s, const char *out, CharProgress cb, void *ctx, DiagList *d) MUST_CHECK;
 

@@ -315,6 +315,53 @@ typedef struct {
     size_t nsave;
 } Plan;
 
+/* The grid of spec s into pl (axes malloc'd: plan_free). ERR_INPUT with a diagnostic for a bad range
+ * or a grid over 2^27 points. */
+static int plan_axes(const CharSpec *s, Plan *pl, DiagList *d)
+{
+    memset(pl, 0, sizeof *pl);
+    int rc;
+    if ((rc = char_range_points(&s->vgs, "VGS", &pl->ax[LUTAX_VGS], &pl->n[LUTAX_VGS], d)) != ERR_OK ||
+        (rc = char_range_points(&s->vds, "VDS", &pl->ax[LUTAX_VDS], &pl->n[LUTAX_VDS], d)) != ERR_OK ||
+        (rc = char_range_points(&s->vsb, "VSB", &pl->ax[LUTAX_VSB], &pl->n[LUTAX_VSB], d)) != ERR_OK)
+        return rc;
+    pl->n[LUTAX_L] = s->nl;
+    if (!(pl->ax[LUTAX_L] = malloc((s->nl ? s->nl : 1) * sizeof(double))))
+        return diag_nomem(d);
+    if (s->nl)
+        memcpy(pl->ax[LUTAX_L], s->l, s->nl * sizeof(double));
+    size_t nodes = s->nl * pl->n[LUTAX_VSB] * pl->n[LUTAX_VDS] * pl->n[LUTAX_VGS];
+    if (nodes > ((size_t)1 << 27))
+        return diag_add(d, DIAG_ERROR, (SrcLoc){0}, "the grid has %zu points: at most %zu", nodes, (size_t)1 << 27);
+    return ERR_OK;
+}
+
+/* What to save for a model of family fam, and the VDS blocks (plots) of the sweep. */
+static void plan_blocks(Plan *pl, int fam)
+{
+    pl->save = fam == FAM_BSIM ? save_bsim : save_mos;
+    pl->nsave = fam == FAM_BSIM ? sizeof save_bsim / sizeof save_bsim[0] : sizeof save_mos / sizeof save_mos[0];
+    size_t nd = pl->n[LUTAX_VDS], per_vsb = (CHUNK_TARGET + pl->n[LUTAX_VSB] - 1) / pl->n[LUTAX_VSB];
+    if (per_vsb > nd)
+        per_vsb = nd;
+    if (per_vsb < 1)
+        per_vsb = 1;
+    pl->blk = (nd + per_vsb - 1) / per_vsb;
+    pl->nblk = (nd + pl->blk - 1) / pl->blk;
+    pl->nplots = pl->n[LUTAX_VSB] * pl->nblk;
+}
+
+static void plan_free(Plan *pl)
+{
+    for (int a = 0; a < LUTAX_COUNT; a++)
+        free(pl->ax[a]);
+}
+
+static size_t plan_nodes(const Plan *pl)
+{
+    return pl->n[LUTAX_L] * pl->n[LUTAX_VSB] * pl->n[LUTAX_VDS] * pl->n[LUTAX_VGS];
+}
+
 static int put_num(Buf *b, double v)
 {
     return buf_printf(b, "%.12g", v);
@@ -906,21 +953,9 @@ int char_build(const CharSpec *s, CharProgress cb, void *ctx, CharResult *res, D
     int rc = check_spec(s, d);
     if (rc != ERR_OK)
         return rc;
-    if ((rc = char_range_points(&s->vgs, "VGS", &pl.ax[LUTAX_VGS], &pl.n[LUTAX_VGS], d)) != ERR_OK ||
-        (rc = char_range_points(&s->vds, "VDS", &pl.ax[LUTAX_VDS], &pl.n[LUTAX_VDS], d)) != ERR_OK ||
-        (rc = char_range_points(&s->vsb, "VSB", &pl.ax[LUTAX_VSB], &pl.n[LUTAX_VSB], d)) != ERR_OK)
+    if ((rc = plan_axes(s, &pl, d)) != ERR_OK)
         goto done;
-    pl.n[LUTAX_L] = s->nl;
-    if (!(pl.ax[LUTAX_L] = malloc(s->nl * sizeof(double)))) {
-        rc = diag_nomem(d);
-        goto done;
-    }
-    memcpy(pl.ax[LUTAX_L], s->l, s->nl * sizeof(double));
-    size_t nodes = s->nl * pl.n[LUTAX_VSB] * pl.n[LUTAX_VDS] * pl.n[LUTAX_VGS];
-    if (nodes > ((size_t)1 << 27)) {
-        rc = diag_add(d, DIAG_ERROR, (SrcLoc){0}, "the grid has %zu points: at most %zu", nodes, (size_t)1 << 27);
-        goto done;
-    }
+    size_t nodes = plan_nodes(&pl);
 
     /* the model file: an absolute path ngspice can read from any folder */
     if (!(abs = realpath(s->models, NULL))) {
@@ -940,16 +975,7 @@ int char_build(const CharSpec *s, CharProgress cb, void *ctx, CharResult *res, D
     ModelFacts mf = {MOS_UNKNOWN, 0, FAM_BSIM};
     if ((rc = probe_model(s, abs, &t, &mf, d)) != ERR_OK)
         goto done;
-    pl.save = mf.fam == FAM_BSIM ? save_bsim : save_mos;
-    pl.nsave = mf.fam == FAM_BSIM ? sizeof save_bsim / sizeof save_bsim[0] : sizeof save_mos / sizeof save_mos[0];
-    size_t nd = pl.n[LUTAX_VDS], per_vsb = (CHUNK_TARGET + pl.n[LUTAX_VSB] - 1) / pl.n[LUTAX_VSB];
-    if (per_vsb > nd)
-        per_vsb = nd;
-    if (per_vsb < 1)
-        per_vsb = 1;
-    pl.blk = (nd + per_vsb - 1) / per_vsb;
-    pl.nblk = (nd + pl.blk - 1) / pl.blk;
-    pl.nplots = pl.n[LUTAX_VSB] * pl.nblk;
+    plan_blocks(&pl, mf.fam);
 
     if ((rc = write_deck(s, abs, &mf, &pl, &deck)) != ERR_OK) {
         rc = diag_nomem(d);
@@ -1100,14 +1126,35 @@ int char_build(const CharSpec *s, CharProgress cb, void *ctx, CharResult *res, D
 done:
     if (rc != ERR_OK)
         char_result_free(res);
-    for (int a = 0; a < LUTAX_COUNT; a++)
-        free(pl.ax[a]);
+    plan_free(&pl);
     free(abs);
     buf_free(&deck);
     buf_free(&msg);
     buf_free(&ro.err);
     src_free(&out);
     tmp_close(&t);
+    return rc;
+}
+
+int char_read_sweep(const CharSpec *s, MosType type, int bsim, const char *raw_path, DiagList *d)
+{
+    Plan pl;
+    int rc = plan_axes(s, &pl, d);
+    if (rc != ERR_OK) {
+        plan_free(&pl);
+        return rc;
+    }
+    ModelFacts mf = {type, bsim ? 54 : 1, bsim ? FAM_BSIM : FAM_MOS};
+    plan_blocks(&pl, mf.fam);
+    size_t n = plan_nodes(&pl) * LUTQ_COUNT;
+    double *vals = malloc((n ? n : 1) * sizeof *vals);
+    unsigned missing = 0;
+    if (!vals)
+        rc = diag_nomem(d);
+    else
+        rc = read_raw(raw_path, &pl, &mf, vals, &missing, d);
+    free(vals);
+    plan_free(&pl);
     return rc;
 }
 

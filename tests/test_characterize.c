@@ -332,6 +332,67 @@ static void test_failures(void **state)
     free(cut_sh);
 }
 
+/* The sweep reader alone (char_read_sweep, the fuzz target's entry) on ngspice's own output for a
+ * small grid (the fuzz seeds, made by ngspice from the demo's models: a mode byte, then the raw
+ * file): it reads back, and a file cut short, or one of a PMOS read as an NMOS, is refused with a
+ * message. */
+static void sweep_file(const char *seed, size_t keep, char **path, unsigned *mode)
+{
+    FILE *fp = fopen(seed, "rb");
+    assert_non_null(fp);
+    static char buf[1 << 16];
+    size_t n = fread(buf, 1, sizeof buf, fp);
+    fclose(fp);
+    assert_true(n > 100);
+    *mode = (unsigned char)buf[0];
+    *path = tu_tmpfile("sweep.raw", buf + 1, keep && keep < n - 1 ? keep : n - 1);
+    assert_non_null(*path);
+}
+
+static int read_sweep(const char *path, unsigned mode, DiagList *d)
+{
+    static const double l[] = {0.5e-6, 1e-6};
+    CharSpec s;
+    memset(&s, 0, sizeof s);
+    s.model = "seed";
+    s.l = l;
+    s.nl = 2;
+    s.vgs = (CharRange){0, 0.2, 0.1};
+    s.vds = (CharRange){0, 0.1, 0.1};
+    s.vsb = (CharRange){0, 0, 0.1};
+    s.temp_c = NAN;
+    s.w_ref = 10e-6;
+    return char_read_sweep(&s, mode & 1 ? MOS_PMOS : MOS_NMOS, !(mode & 2), path, d);
+}
+
+static void test_sweep_reader(void **state)
+{
+    (void)state;
+    static const char *const seeds[] = {"fuzz/seeds/sweep/nmos-bsim.raw", "fuzz/seeds/sweep/pmos-bsim.raw",
+                                        "fuzz/seeds/sweep/nmos-level1.raw"};
+    for (size_t i = 0; i < 3; i++) {
+        char *path;
+        unsigned mode;
+        DiagList d;
+        sweep_file(seeds[i], 0, &path, &mode);
+        diag_init(&d);
+        assert_int_equal(read_sweep(path, mode, &d), ERR_OK);
+        assert_int_equal(d.nerrors, 0);
+        diag_free(&d);
+        diag_init(&d); /* the other type: the swept voltages have the other sign */
+        assert_int_equal(read_sweep(path, mode ^ 1u, &d), ERR_INPUT);
+        assert_non_null(strstr(d.items[0].msg, "swept other values than asked"));
+        diag_free(&d);
+        free(path);
+        sweep_file(seeds[i], 600, &path, &mode); /* cut inside the first plot's values */
+        diag_init(&d);
+        assert_int_equal(read_sweep(path, mode, &d), ERR_INPUT);
+        assert_true(d.nerrors == 1 && d.items[0].msg[0]);
+        diag_free(&d);
+        free(path);
+    }
+}
+
 int main(void)
 {
     const struct CMUnitTest tests[] = {
@@ -342,6 +403,7 @@ int main(void)
         cmocka_unit_test(test_section_and_temperature),
         cmocka_unit_test(test_run_writes_table),
         cmocka_unit_test(test_failures),
+        cmocka_unit_test(test_sweep_reader),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
 }

@@ -7,7 +7,7 @@ set -eu
 out=$1
 root=$(cd "$(dirname "$0")/../.." && pwd)
 cd "$root"
-for t in netlist expr show raw csv rules lut json; do mkdir -p "$out/$t"; rm -f "$out/$t"/seed-*; done
+for t in netlist expr show raw csv rules lut json sweep; do mkdir -p "$out/$t"; rm -f "$out/$t"/seed-*; done
 seed() { # seed TARGET NAME < data: named by its checksum, so equal seeds are one file
     cat >"$out/$1/.new"
     sum=$(cksum <"$out/$1/.new" | cut -d' ' -f1)
@@ -94,6 +94,6 @@ for d in tests/fuzz/seeds/*/; do
     t=$(basename "$d")
     for f in "$d"*; do [ -f "$f" ] && seed "$t" "$f" <"$f"; done
 done
-for t in netlist expr show raw csv rules lut json; do
+for t in netlist expr show raw csv rules lut json sweep; do
     printf 'mkcorpus: %-8s %3d seeds\n' "$t" "$(ls "$out/$t" | grep -c '^seed-' || true)"
 done
