@@ -931,8 +931,14 @@ static int emit(Flat *f, uint32_t fi)
             const char *what = w <= 0 ? "W" : l <= 0 ? "L" : m <= 0 ? "m" : "nf";
             double v = w <= 0 ? w : l <= 0 ? l : m <= 0 ? m : nf;
             nl_warn(nl, card->file, card->start + card->col - 1, (uint32_t)strlen(mm->name),
-                    "%s of %s is %g, not a positive number", what, dv->name, v);
+                    "%s of %s is %g, not a positive number: taken as unknown", what, dv->name, v);
         }
+        /* a size that is not positive is no size: kept, it would give negative densities and
+           widths (found by fuzz_netlist) */
+        double *size[] = {&dv->w, &dv->l, &dv->m, &dv->nf};
+        for (size_t k = 0; k < 4; k++)
+            if (*size[k] <= 0)
+                *size[k] = NAN;
     }
     if (def->nother && list_other(f, fi) != ERR_OK)
         return ERR_NOMEM;

@@ -533,6 +533,32 @@ static void test_instance_limit_before_expanding(void **state)
     free(path2);
 }
 
+/* A size that is not positive (l=0-2u, w=0, m=-1) is a warning and an unknown size, never a negative
+ * one that would give negative densities (found by fuzz_netlist). */
+static void test_sizes_not_positive(void **state)
+{
+    (void)state;
+    char *path = TU_TMPFILE("negsize.cir", "* t\n.model nch nmos level=1\nm1 d g 0 0 nch w=20u l=0-2u m=2\n"
+                                          "m2 d g 0 0 nch w=0 l=1u\nm3 d g 0 0 nch w=1u l=1u m=-1\n.end\n");
+    Design ds;
+    DiagList d;
+    diag_init(&d);
+    assert_int_equal(nl_load(path, NULL, &ds, &d), ERR_OK);
+    assert_int_equal(ds.ndevs, 3);
+    assert_true(isnan(ds.devs[0].l) && ds.devs[0].w == 20e-6 && ds.devs[0].m == 2);
+    assert_true(isnan(ds.devs[1].w) && ds.devs[1].l == 1e-6);
+    assert_true(isnan(ds.devs[2].m));
+    size_t warned = 0;
+    for (size_t i = 0; i < d.n; i++)
+        if (strstr(d.items[i].msg, "not a positive number: taken as unknown"))
+            warned++;
+    assert_int_equal(warned, 3);
+    assert_int_equal(d.items[0].loc.line, 3);
+    nl_free(&ds);
+    diag_free(&d);
+    free(path);
+}
+
 /* ---- numbers in dumps ------------------------------------------------------------------------ */
 
 static void test_numbers_against_strtod(void **state)
@@ -881,6 +907,7 @@ int main(void)
         cmocka_unit_test(test_deep_recursive_function),
         cmocka_unit_test(test_device_limit_before_expanding),
         cmocka_unit_test(test_instance_limit_before_expanding),
+        cmocka_unit_test(test_sizes_not_positive),
         cmocka_unit_test(test_numbers_against_strtod),
         cmocka_unit_test(test_quantity_name_with_nul),
         cmocka_unit_test(test_dump_rows),
