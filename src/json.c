@@ -298,6 +298,30 @@ static int number(P *ps, JsonValue *v)
 
 static JsonValue *value(P *ps);
 
+/* After an item of an array (close ']') or a member of an object (close '}'): 1 when a ',' follows
+ * (another item comes), 0 at the closing bracket (consumed), -1 with the error otherwise. */
+static int after_item(P *ps, char close)
+{
+    char b[16];
+    blanks(ps);
+    if (ps->p < ps->end && *ps->p == ',') {
+        ps->p++;
+        blanks(ps);
+        if (ps->p < ps->end && *ps->p == close) {
+            fail(ps, "a trailing comma before '%s'", close == ']' ? "]" : "}");
+            return -1;
+        }
+        return 1;
+    }
+    if (ps->p < ps->end && *ps->p == close) {
+        ps->p++;
+        return 0;
+    }
+    fail(ps, close == ']' ? "expected ',' or ']' in an array, found %s" : "expected ',' or '}' in an object, found %s",
+         what(ps, b, sizeof b));
+    return -1;
+}
+
 static JsonValue *new_value(P *ps, JsonType t)
 {
     JsonValue *v = arena_zalloc(ps->arena, sizeof *v);
@@ -342,23 +366,11 @@ static JsonValue *array(P *ps)
                 nomem(ps);
                 return NULL;
             }
-            blanks(ps);
-            char b[16];
-            if (ps->p < ps->end && *ps->p == ',') {
-                ps->p++;
-                blanks(ps);
-                if (ps->p < ps->end && *ps->p == ']') {
-                    fail(ps, "a trailing comma before ']'%s", "");
-                    return NULL;
-                }
-                continue;
-            }
-            if (ps->p < ps->end && *ps->p == ']') {
-                ps->p++;
+            int more = after_item(ps, ']');
+            if (more < 0)
+                return NULL;
+            if (!more)
                 break;
-            }
-            fail(ps, "expected ',' or ']' in an array, found %s", what(ps, b, sizeof b));
-            return NULL;
         }
     }
     v->len = ps->nitems - base;
@@ -426,7 +438,6 @@ static JsonValue *streamed_array(P *ps, const char *key)
     ps->p++;
     blanks(ps);
     size_t n = 0;
-    char b[16];
     if (ps->p < ps->end && *ps->p == ']') {
         ps->p++;
     } else {
@@ -446,22 +457,11 @@ static JsonValue *streamed_array(P *ps, const char *key)
                 arena_free(&ps->scratch);
                 arena_init(&ps->scratch);
             }
-            blanks(ps);
-            if (ps->p < ps->end && *ps->p == ',') {
-                ps->p++;
-                blanks(ps);
-                if (ps->p < ps->end && *ps->p == ']') {
-                    fail(ps, "a trailing comma before ']'%s", "");
-                    return NULL;
-                }
-                continue;
-            }
-            if (ps->p < ps->end && *ps->p == ']') {
-                ps->p++;
+            int more = after_item(ps, ']');
+            if (more < 0)
+                return NULL;
+            if (!more)
                 break;
-            }
-            fail(ps, "expected ',' or ']' in an array, found %s", what(ps, b, sizeof b));
-            return NULL;
         }
     }
     v->len = n;
@@ -518,22 +518,11 @@ static JsonValue *object(P *ps)
                 nomem(ps);
                 return NULL;
             }
-            blanks(ps);
-            if (ps->p < ps->end && *ps->p == ',') {
-                ps->p++;
-                blanks(ps);
-                if (ps->p < ps->end && *ps->p == '}') {
-                    fail(ps, "a trailing comma before '}'%s", "");
-                    return NULL;
-                }
-                continue;
-            }
-            if (ps->p < ps->end && *ps->p == '}') {
-                ps->p++;
+            int more = after_item(ps, '}');
+            if (more < 0)
+                return NULL;
+            if (!more)
                 break;
-            }
-            fail(ps, "expected ',' or '}' in an object, found %s", what(ps, b, sizeof b));
-            return NULL;
         }
     }
     if (unique_keys(ps, base) != ERR_OK)
