@@ -495,23 +495,6 @@ static void parse_show(const char *out, NgList *g)
     }
 }
 
-static char *slurp(const char *path)
-{
-    FILE *fp = fopen(path, "rb");
-    if (!fp)
-        return NULL;
-    Buf b = BUF_INIT;
-    char chunk[4096];
-    size_t n;
-    while ((n = fread(chunk, 1, sizeof chunk, fp)) > 0)
-        if (buf_append(&b, chunk, n) != ERR_OK)
-            break;
-    fclose(fp);
-    if (!b.data && buf_puts(&b, "") != ERR_OK)
-        return NULL;
-    return b.data;
-}
-
 /* 1 when ngspice printed a vector of this name in `print all` ("name = value"). */
 static int has_node(const char *out, const char *name)
 {
@@ -555,7 +538,7 @@ static void compare_with_ngspice(const char *dir, const char *file)
     /* run from the circuit's folder: ngspice 39 looks for .lib files from the working folder */
     snprintf(cmd, sizeof cmd, "cd '%s/%s' && ngspice -b '%s' >'%s' 2>'%s'", cwd, dir, deck, out, err);
     assert_int_equal(system(cmd), 0);
-    char *text = slurp(out);
+    char *text = tu_slurp(out, NULL);
     assert_non_null(text);
     NgList g = {NULL, 0, 0};
     parse_show(text, &g);

@@ -122,25 +122,6 @@ typedef struct {
     char *log;      /* the show output */
 } Sim;
 
-static char *slurp(const char *path)
-{
-    FILE *fp = fopen(path, "rb");
-    if (!fp)
-        return NULL;
-    fseek(fp, 0, SEEK_END);
-    long n = ftell(fp);
-    fseek(fp, 0, SEEK_SET);
-    char *s = malloc((size_t)n + 1);
-    if (s && fread(s, 1, (size_t)n, fp) != (size_t)n) {
-        free(s);
-        s = NULL;
-    }
-    if (s)
-        s[n] = '\0';
-    fclose(fp);
-    return s;
-}
-
 /* Simulates circuits-intent/<cir> (op, `show m` tables) and reads it back with biaslint's readers. */
 static void simulate(Sim *s, const char *cir)
 {
@@ -161,7 +142,7 @@ static void simulate(Sim *s, const char *cir)
     fclose(fp);
     snprintf(cmd, sizeof cmd, "cd '%s' && ngspice -b deck.cir >show.log 2>ngspice.err", s->work);
     assert_int_equal(system(cmd), 0);
-    s->log = slurp(logp);
+    s->log = tu_slurp(logp, NULL);
     assert_non_null(s->log);
     NlOptions nlo = {0, 0, 0};
     assert_int_equal(nl_load(path, &nlo, &s->ds, &s->d), ERR_OK);

@@ -8,23 +8,6 @@
 #include "buf.h"
 #include "opdump.h"
 
-static char *slurp(const char *path, size_t *len)
-{
-    FILE *fp = fopen(path, "rb");
-    assert_non_null(fp);
-    fseek(fp, 0, SEEK_END);
-    long n = ftell(fp);
-    fseek(fp, 0, SEEK_SET);
-    char *s = malloc((size_t)n + 1);
-    assert_non_null(s);
-    assert_int_equal(fread(s, 1, (size_t)n, fp), (size_t)n);
-    s[n] = '\0';
-    fclose(fp);
-    if (len)
-        *len = (size_t)n;
-    return s;
-}
-
 static OpTable *read_ok(const char *path, OpFormat fmt, DiagList *d)
 {
     OpTable *t = NULL;
@@ -57,8 +40,8 @@ static size_t count_sev(const DiagList *d, DiagSeverity sev)
 static void test_mix(void **state)
 {
     (void)state;
-    char *log = slurp("fixtures/op/mix.out", NULL);
-    char *csv = slurp("fixtures/op/mix.csv", NULL);
+    char *log = tu_slurp("fixtures/op/mix.out", NULL);
+    char *csv = tu_slurp("fixtures/op/mix.csv", NULL);
     DiagList d;
     OpTable *t = read_ok("fixtures/op/mix.csv", OPFMT_AUTO, &d);
     assert_int_equal(d.n, 0);
@@ -103,7 +86,7 @@ static void test_mix(void **state)
 static void test_alias(void **state)
 {
     (void)state;
-    char *text = slurp("fixtures/op/mix_alias.csv", NULL);
+    char *text = tu_slurp("fixtures/op/mix_alias.csv", NULL);
     assert_non_null(strstr(text, "\r\n"));
     assert_non_null(strstr(text, "Vt,Device,IDS,gm,rout_ohm,vsb,spare,"));
     free(text);

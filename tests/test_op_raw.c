@@ -7,36 +7,6 @@
 
 #include "opdump.h"
 
-static char *slurp(const char *path, size_t *len)
-{
-    FILE *fp = fopen(path, "rb");
-    assert_non_null(fp);
-    fseek(fp, 0, SEEK_END);
-    long n = ftell(fp);
-    fseek(fp, 0, SEEK_SET);
-    char *s = malloc((size_t)n + 1);
-    assert_non_null(s);
-    assert_int_equal(fread(s, 1, (size_t)n, fp), (size_t)n);
-    s[n] = '\0';
-    fclose(fp);
-    if (len)
-        *len = (size_t)n;
-    return s;
-}
-
-static void line_col(const char *text, const char *p, uint32_t *line, uint32_t *col)
-{
-    uint32_t l = 1;
-    const char *ls = text;
-    for (const char *q = text; q < p; q++)
-        if (*q == '\n') {
-            l++;
-            ls = q + 1;
-        }
-    *line = l;
-    *col = (uint32_t)(p - ls + 1);
-}
-
 /* memmem for texts that hold NUL bytes (binary raw data) */
 static const char *find(const char *text, size_t len, const char *needle)
 {
@@ -52,7 +22,7 @@ static uint32_t line_of(const char *text, const char *needle)
     const char *p = strstr(text, needle);
     assert_non_null(p);
     uint32_t l, c;
-    line_col(text, p, &l, &c);
+    tu_line_col(text, p, &l, &c);
     return l;
 }
 
@@ -174,9 +144,9 @@ static size_t check_against_print(const OpTable *t, const char *log, double rel)
 static void test_mix(void **state)
 {
     (void)state;
-    char *log = slurp("fixtures/op/mix.out", NULL);
+    char *log = tu_slurp("fixtures/op/mix.out", NULL);
     size_t alen;
-    char *asc = slurp("fixtures/op/mix_asc.raw", &alen);
+    char *asc = tu_slurp("fixtures/op/mix_asc.raw", &alen);
     DiagList d1, d2;
     OpTable *b = read_ok("fixtures/op/mix_bin.raw", &d1), *a = read_ok("fixtures/op/mix_asc.raw", &d2);
     assert_int_equal(d1.n, 0);
@@ -239,11 +209,11 @@ static void test_mix(void **state)
 static void test_multi_plot(void **state)
 {
     (void)state;
-    char *ac1 = slurp("fixtures/op/ac1.out", NULL);
+    char *ac1 = tu_slurp("fixtures/op/ac1.out", NULL);
     static const char *const files[] = {"fixtures/op/multi_bin.raw", "fixtures/op/multi_asc.raw"};
     for (int k = 0; k < 2; k++) {
         size_t len;
-        char *text = slurp(files[k], &len);
+        char *text = tu_slurp(files[k], &len);
         assert_non_null(find(text, len, "No. Points: 1   ")); /* the padding is there to be trimmed */
         assert_non_null(find(text, len, "Plotname: AC Analysis"));
         assert_non_null(find(text, len, "Plotname: DC transfer characteristic"));
@@ -267,10 +237,10 @@ static void test_multi_plot(void **state)
 static void test_complex(void **state)
 {
     (void)state;
-    char *ac1 = slurp("fixtures/op/ac1.out", NULL);
+    char *ac1 = tu_slurp("fixtures/op/ac1.out", NULL);
     static const char *const files[] = {"fixtures/op/ac1_bin.raw", "fixtures/op/ac1_asc.raw"};
     for (int k = 0; k < 2; k++) {
-        char *text = slurp(files[k], NULL);
+        char *text = tu_slurp(files[k], NULL);
         assert_non_null(strstr(text, "Flags: complex"));
         free(text);
         DiagList d;
@@ -303,7 +273,7 @@ static void test_binary_nan(void **state)
 {
     (void)state;
     size_t len;
-    char *text = slurp("fixtures/op/mix_bin.raw", &len);
+    char *text = tu_slurp("fixtures/op/mix_bin.raw", &len);
     char *data = strstr(text, "Binary:\n") + 8;
     double nan = NAN, inf = -INFINITY;
     memcpy(data + 8 * var_index(text, "@m.xm1.mref[gm]"), &nan, 8);
@@ -356,7 +326,7 @@ static void test_damaged_binary(void **state)
 {
     (void)state;
     size_t len, n;
-    char *bin = slurp("fixtures/op/mix_bin.raw", &len);
+    char *bin = tu_slurp("fixtures/op/mix_bin.raw", &len);
     uint32_t bline = line_of(bin, "Binary:");
     /* cut short: 5 bytes missing */
     expect_error("cut.raw", bin, len - 5, bline, 1, "binary data truncated");
@@ -393,7 +363,7 @@ static void test_damaged_ascii(void **state)
 {
     (void)state;
     size_t len, n;
-    char *asc = slurp("fixtures/op/mix_asc.raw", &len);
+    char *asc = tu_slurp("fixtures/op/mix_asc.raw", &len);
     uint32_t vline = line_of(asc, "Values:");
     char *s;
     uint32_t l, c;
@@ -429,7 +399,7 @@ static void test_damaged_ascii(void **state)
     free(s);
     /* a variable index out of order */
     s = replace(asc, len, "\n\t5\t", "\n\t7\t", &n);
-    line_col(s, strstr(s, "\n\t7\t") + 2, &l, &c);
+    tu_line_col(s, strstr(s, "\n\t7\t") + 2, &l, &c);
     expect_error("index.raw", s, n, l, c, "bad variable index '7': expected 5");
     free(s);
     /* a value that is not a number: the third value line */
@@ -458,7 +428,7 @@ static void test_damaged_ascii(void **state)
     free(s);
     /* a complex value in a real plot */
     s = replace(asc, len, "\n\t1.500000000000000e+00", "\n\t1.5e+00,0.0e+00", &n);
-    line_col(s, strstr(s, "\t1.5e+00,0.0e+00") + 1, &l, &c);
+    tu_line_col(s, strstr(s, "\t1.5e+00,0.0e+00") + 1, &l, &c);
     expect_error("cplx.raw", s, n, l, c, "is a complex value in a real plot");
     free(s);
     /* counts and flags that are not */
@@ -479,11 +449,11 @@ static void test_not_op(void **state)
     (void)state;
     size_t len;
     /* a DC sweep alone: three points */
-    char *dc = slurp("fixtures/op/dc3_asc.raw", &len);
+    char *dc = tu_slurp("fixtures/op/dc3_asc.raw", &len);
     expect_error("dc3.raw", dc, len, line_of(dc, "No. Points"), 1, "has 3 points: biaslint reads one operating point");
     free(dc);
     /* two plots, neither an operating point: the multi file without its op plot */
-    char *m = slurp("fixtures/op/multi_asc.raw", &len);
+    char *m = tu_slurp("fixtures/op/multi_asc.raw", &len);
     const char *op = strstr(m, "Plotname: Operating Point");
     assert_non_null(op);
     while (op > m && strncmp(op, "\nTitle:", 7) != 0)

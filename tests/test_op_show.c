@@ -7,43 +7,12 @@
 
 #include "opdump.h"
 
-static char *slurp(const char *path, size_t *len)
-{
-    FILE *fp = fopen(path, "rb");
-    assert_non_null(fp);
-    fseek(fp, 0, SEEK_END);
-    long n = ftell(fp);
-    fseek(fp, 0, SEEK_SET);
-    char *s = malloc((size_t)n + 1);
-    assert_non_null(s);
-    assert_int_equal(fread(s, 1, (size_t)n, fp), (size_t)n);
-    s[n] = '\0';
-    fclose(fp);
-    if (len)
-        *len = (size_t)n;
-    return s;
-}
-
-/* 1-based line and column of p in text. */
-static void line_col(const char *text, const char *p, uint32_t *line, uint32_t *col)
-{
-    uint32_t l = 1;
-    const char *ls = text;
-    for (const char *q = text; q < p; q++)
-        if (*q == '\n') {
-            l++;
-            ls = q + 1;
-        }
-    *line = l;
-    *col = (uint32_t)(p - ls + 1);
-}
-
 static uint32_t line_of(const char *text, const char *needle)
 {
     const char *p = strstr(text, needle);
     assert_non_null(p);
     uint32_t l, c;
-    line_col(text, p, &l, &c);
+    tu_line_col(text, p, &l, &c);
     return l;
 }
 
@@ -146,7 +115,7 @@ static void test_mix_print(void **state)
     (void)state;
     DiagList d;
     OpTable *t = read_ok("fixtures/op/mix.out", OPFMT_SHOW, &d);
-    char *log = slurp("fixtures/op/mix.out", NULL);
+    char *log = tu_slurp("fixtures/op/mix.out", NULL);
     assert_true(check_against_print(t, log) >= 45);
     free(log);
     op_free(t);
@@ -191,7 +160,7 @@ static void test_mix_details(void **state)
     (void)state;
     DiagList d;
     OpTable *t = read_ok("fixtures/op/mix.out", OPFMT_AUTO, &d);
-    char *log = slurp("fixtures/op/mix.out", NULL);
+    char *log = tu_slurp("fixtures/op/mix.out", NULL);
     assert_int_equal(t->format, OPFMT_SHOW);
     assert_int_equal(d.nerrors, 0);
     assert_int_equal(d.nwarnings, 0);
@@ -249,7 +218,7 @@ static void test_mix_details(void **state)
     uint32_t l, c;
     const char *at = strstr(log, "     device                   mb3");
     assert_non_null(at);
-    line_col(log, strstr(at, "mb3"), &l, &c);
+    tu_line_col(log, strstr(at, "mb3"), &l, &c);
     assert_int_equal(mb3->loc.line, l);
     assert_int_equal(mb3->loc.col, c);
     free(log);
@@ -262,7 +231,7 @@ static void test_width(void **state)
 {
     (void)state;
     size_t n;
-    char *log = slurp("fixtures/op/mix.out", &n);
+    char *log = tu_slurp("fixtures/op/mix.out", &n);
     char *a = strstr(log, "=== show wide"), *b = strstr(log, "=== show all");
     assert_non_null(a);
     assert_non_null(b);
@@ -354,7 +323,7 @@ static void test_failed_simulation(void **state)
         {"fixtures/op/fail_batch.out", "DC solution failed", "holds no device table"},
     };
     for (size_t i = 0; i < sizeof rows / sizeof rows[0]; i++) {
-        char *text = slurp(rows[i].path, NULL);
+        char *text = tu_slurp(rows[i].path, NULL);
         uint32_t line = line_of(text, rows[i].marker);
         if (strcmp(rows[i].path, "fixtures/op/fail_ctl.log") == 0) {
             uint32_t other = line_of(text, "DC solution failed");
@@ -369,14 +338,14 @@ static void test_failed_simulation(void **state)
 static void test_cut_ambiguous(void **state)
 {
     (void)state;
-    char *text = slurp("fixtures/op/cut2.out", NULL);
+    char *text = tu_slurp("fixtures/op/cut2.out", NULL);
     const char *row = strstr(text, "     device ");
     assert_non_null(row);
     const char *first = strstr(row, "m.xpair_of_devices_he");
     const char *second = strstr(first + 1, "m.xpair_of_devices_he");
     assert_non_null(second);
     uint32_t l, c;
-    line_col(text, second, &l, &c);
+    tu_line_col(text, second, &l, &c);
     free(text);
     expect_error("fixtures/op/cut2.out", OPFMT_AUTO, l, c, "cannot be told apart");
     DiagList d;
@@ -425,7 +394,7 @@ static void test_bad_tables(void **state)
             else if (strcmp(rows[i].name, "conflict.out") == 0 || strcmp(rows[i].name, "model.out") == 0)
                 p = strstr(strstr(rows[i].text, "\n\n"), rows[i].at); /* in the second table */
             assert_non_null(p);
-            line_col(rows[i].text, p, &l, &c);
+            tu_line_col(rows[i].text, p, &l, &c);
             if (strcmp(rows[i].name, "norun.out") == 0 || strcmp(rows[i].name, "interrupted.out") == 0)
                 c = 1;
         }
@@ -513,7 +482,7 @@ static void test_live_ngspice(void **state)
     (void)state;
     if (!tu_have_ngspice())
         skip();
-    char *deck = slurp("fixtures/op/gen/mix.cir", NULL);
+    char *deck = tu_slurp("fixtures/op/gen/mix.cir", NULL);
     char *path = tu_tmpfile("mix.cir", deck, strlen(deck));
     free(deck);
     char dir[256], cmd[768], out[300], bin[300];
@@ -525,7 +494,7 @@ static void test_live_ngspice(void **state)
     snprintf(bin, sizeof bin, "%s/mix_bin.raw", dir);
     DiagList d1, d2;
     OpTable *s = read_ok(out, OPFMT_AUTO, &d1), *r = read_ok(bin, OPFMT_AUTO, &d2);
-    char *log = slurp(out, NULL);
+    char *log = tu_slurp(out, NULL);
     assert_true(check_against_print(s, log) >= 45);
     assert_true(check_against_raw(s, r) >= 70);
     free(log);

@@ -26,25 +26,6 @@ typedef struct {
     int mos1;
 } RefDev;
 
-static char *slurp(const char *path)
-{
-    FILE *fp = fopen(path, "rb");
-    if (!fp)
-        return NULL;
-    fseek(fp, 0, SEEK_END);
-    long n = ftell(fp);
-    fseek(fp, 0, SEEK_SET);
-    char *s = malloc((size_t)n + 1);
-    if (s && fread(s, 1, (size_t)n, fp) != (size_t)n) {
-        free(s);
-        s = NULL;
-    }
-    if (s)
-        s[n] = '\0';
-    fclose(fp);
-    return s;
-}
-
 static int run_ngspice(const char *dir, const char *deck, const char *log)
 {
     char cmd[1024];
@@ -115,7 +96,7 @@ static void check_circuit(const char *dir, const char *cir)
     fclose(fp);
     snprintf(log, sizeof log, "%s/show.log", work);
     assert_int_equal(run_ngspice(work, "deck.cir", log), 0);
-    char *text = slurp(log);
+    char *text = tu_slurp(log, NULL);
     assert_non_null(text);
 
     /* 3. read both dumps and join them */

@@ -501,23 +501,6 @@ typedef struct {
     double w, l, m, nf;
 } ShowDev;
 
-static char *slurp(const char *path)
-{
-    FILE *fp = fopen(path, "rb");
-    if (!fp)
-        return NULL;
-    Buf b = BUF_INIT;
-    char chunk[4096];
-    size_t n;
-    while ((n = fread(chunk, 1, sizeof chunk, fp)) > 0)
-        if (buf_append(&b, chunk, n) != ERR_OK)
-            break;
-    fclose(fp);
-    if (!b.data && buf_puts(&b, "") != ERR_OK)
-        return NULL;
-    return b.data;
-}
-
 /* `show m : w l m nf` tables of ngspice's output: device name (ngspice's spelling) -> values. */
 static size_t parse_show(const char *out, ShowDev *v, size_t cap)
 {
@@ -595,7 +578,7 @@ static char *simulate(const char *tb, const char *const *inner, size_t ninner, c
     /* from the circuit's folder: ngspice 39 looks for .lib and .include files from the working folder */
     snprintf(cmd, sizeof cmd, "cd '%s' && ngspice -b '%s' >'%s' 2>'%s.err'", here, deck, logpath, logpath);
     assert_int_equal(system(cmd), 0);
-    char *text = slurp(logpath);
+    char *text = tu_slurp(logpath, NULL);
     assert_non_null(text);
     return text;
 }

@@ -51,6 +51,45 @@ static inline char *tu_tmpfile(const char *name, const char *text, size_t len)
 
 #define TU_TMPFILE(name, lit) tu_tmpfile((name), (lit), sizeof(lit) - 1)
 
+/* The whole file at path, NUL-terminated (malloc'd; it may hold NUL bytes of its own), its length
+ * in *len when len is not NULL. A file that cannot be read fails the test. */
+static inline char *tu_slurp(const char *path, size_t *len)
+{
+    FILE *fp = fopen(path, "rb");
+    char *s = NULL;
+    long n = -1;
+    if (fp && fseek(fp, 0, SEEK_END) == 0 && (n = ftell(fp)) >= 0 && fseek(fp, 0, SEEK_SET) == 0 &&
+        (s = malloc((size_t)n + 1)) && fread(s, 1, (size_t)n, fp) == (size_t)n) {
+        s[n] = '\0';
+    } else {
+        free(s);
+        s = NULL;
+    }
+    if (fp)
+        fclose(fp);
+    if (!s) {
+        print_error("cannot read %s\n", path);
+        fail();
+    }
+    if (len)
+        *len = (size_t)n;
+    return s;
+}
+
+/* The 1-based line and column of p in text. */
+static inline void tu_line_col(const char *text, const char *p, uint32_t *line, uint32_t *col)
+{
+    uint32_t l = 1;
+    const char *ls = text;
+    for (const char *q = text; q < p; q++)
+        if (*q == '\n') {
+            l++;
+            ls = q + 1;
+        }
+    *line = l;
+    *col = (uint32_t)(p - ls + 1);
+}
+
 /* 1 when ngspice is on PATH (integration tests skip without it). */
 static inline int tu_have_ngspice(void)
 {
