@@ -347,10 +347,19 @@ static int render(const Design *ds, const AnnCorner *corners, size_t ncorners, B
         for (; s < nslots && (slots[s].anchor > eff ? eff : slots[s].anchor) == at; s++)
             rc |= card_lines(&c, slots[s].card);
         if (no_eol && rc == ERR_OK) {
-            /* the last line had no line ending: put one before the block and none after it */
-            size_t el = strlen(c.eol);
-            memmove(out->data + mark + el, out->data + mark, out->len - mark - el);
-            memcpy(out->data + mark, c.eol, el);
+            /* the last line had no line ending: put one before the block and none after it. After a
+               final CR that line ending is CRLF, as strip takes a CR before its LF for part of it
+               (a bare LF there lost the file's CR: found by fuzz_netlist) */
+            const char *sep = at > 0 && text[at - 1] == '\r' ? "\r\n" : c.eol;
+            size_t el = strlen(c.eol), sl = strlen(sep), body = out->len - mark - el;
+            if (sl > el && buf_reserve(out, sl - el) != ERR_OK) {
+                rc = ERR_NOMEM;
+                break;
+            }
+            memmove(out->data + mark + sl, out->data + mark, body);
+            memcpy(out->data + mark, sep, sl);
+            out->len = mark + sl + body;
+            out->data[out->len] = '\0';
         }
     }
     if (rc != ERR_OK)

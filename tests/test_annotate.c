@@ -123,6 +123,25 @@ static void test_no_final_newline(void **state)
     free(out);
 }
 
+/* The last line ends in a bare CR and no LF: the line ending put before the block is CRLF, since
+ * strip takes a CR before that LF for part of it; the file's own CR stays (found by fuzz_netlist). */
+static void test_final_bare_cr(void **state)
+{
+    (void)state;
+    static const char text[] = "title\nm1 d g 0 0 nch\r\r";
+    Fixture x;
+    setup(&x, text, (size_t[]){0}, 1);
+    char *out = render(&x);
+    assert_non_null(strstr(out, "nch\r\r\r\n*~ [m1] moderate"));
+    assert_strips_to(out, text);
+    Fixture y; /* annotating the annotated text gives the same */
+    setup(&y, out, (size_t[]){0}, 1);
+    char *again = render(&y);
+    assert_string_equal(again, out);
+    free(again);
+    free(out);
+}
+
 static void test_old_lines_replaced(void **state)
 {
     (void)state;
@@ -205,6 +224,7 @@ int main(void)
         cmocka_unit_test(test_lines_follow_cards),
         cmocka_unit_test(test_crlf_kept),
         cmocka_unit_test(test_no_final_newline),
+        cmocka_unit_test(test_final_bare_cr),
         cmocka_unit_test(test_old_lines_replaced),
         cmocka_unit_test(test_title_with_the_mark_kept),
         cmocka_unit_test(test_many_instances_summarised),
