@@ -26,7 +26,7 @@ for t in "$@"; do
     # netlist target loads, flattens and annotates twice per input, so its inputs stay shortest
     case $t in
     netlist) maxlen=2048 ;;
-    show | csv | rules | expr | sweep) maxlen=4096 ;;
+    show | csv | rules | expr | sweep | lut) maxlen=4096 ;;
     *) maxlen=16384 ;;
     esac
     "$bin/fuzz_$t" $limit -timeout=10 -rss_limit_mb=2048 -max_len=$maxlen -print_final_stats=1 \
