@@ -892,7 +892,9 @@ static char *put_num(char *p, double v)
         *p++ = '0';
         return p;
     }
-    if (!(fabs(v) > 1e-300 && fabs(v) < 1e300)) /* subnormal or huge: the slow way */
+    /* near the ends of the double range (subnormals, and wherever the scaling by 10^k below would
+       overflow: 1.025e-300 needed 10^310, found by fuzz_lut): the slow way */
+    if (!(fabs(v) > 1e-290 && fabs(v) < 1e290))
         return p + snprintf(p, 24, "%.10g", v);
     if (v < 0) {
         *p++ = '-';
