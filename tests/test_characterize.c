@@ -10,6 +10,7 @@
 #include "characterize.h"
 #include "lut.h"
 #include "lutref.h"
+#include "sweepgrid.h"
 
 #define MODELS "fixtures/lut/models.inc"
 
@@ -351,17 +352,8 @@ static void sweep_file(const char *seed, size_t keep, char **path, unsigned *mod
 
 static int read_sweep(const char *path, unsigned mode, DiagList *d)
 {
-    static const double l[] = {0.5e-6, 1e-6};
     CharSpec s;
-    memset(&s, 0, sizeof s);
-    s.model = "seed";
-    s.l = l;
-    s.nl = 2;
-    s.vgs = (CharRange){0, 0.2, 0.1};
-    s.vds = (CharRange){0, 0.1, 0.1};
-    s.vsb = (CharRange){0, 0, 0.1};
-    s.temp_c = NAN;
-    s.w_ref = 10e-6;
+    sweep_grid(&s);
     return char_read_sweep(&s, mode & 1 ? MOS_PMOS : MOS_NMOS, !(mode & 2), path, d);
 }
 

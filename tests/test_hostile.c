@@ -481,20 +481,29 @@ static void test_device_limit_before_expanding(void **state)
 /* A hierarchy with no MOSFET beneath: ten levels of ten instances of a resistor cell (10^10
  * instances) beside one MOSFET. The device count does not bound such an expansion, so the instance
  * count does, against the same limit, before anything is expanded (found by fuzz_netlist, as a hang). */
-static void test_instance_limit_before_expanding(void **state)
+/* levels of ten instances each of a resistor cell, with one MOSFET beside them at the top, into a
+ * temporary file: 4 + 12 * levels lines, the top X card last but one. */
+static char *resistor_cells(const char *name, int levels)
 {
-    (void)state;
     Buf b = BUF_INIT;
-    assert_int_equal(buf_puts(&b, "* ten levels of ten resistor cells\n.subckt c0 a b\nr1 a b 1k\n.ends\n"), ERR_OK);
-    for (int i = 1; i <= 10; i++) {
+    assert_int_equal(buf_puts(&b, "* levels of ten resistor cells\n.subckt c0 a b\nr1 a b 1k\n.ends\n"), ERR_OK);
+    for (int i = 1; i <= levels; i++) {
         assert_int_equal(buf_printf(&b, ".subckt c%d a b\n", i), ERR_OK);
         for (int k = 1; k <= 10; k++)
             assert_int_equal(buf_printf(&b, "x%d a b c%d\n", k, i - 1), ERR_OK);
         assert_int_equal(buf_puts(&b, ".ends\n"), ERR_OK);
     }
-    assert_int_equal(buf_puts(&b, ".model nch nmos level=1\nm1 d g 0 0 nch w=1u l=1u\nx1 a b c10\n.end\n"), ERR_OK);
-    char *path = tu_tmpfile("deviceless.cir", b.data, b.len);
+    assert_int_equal(buf_printf(&b, ".model nch nmos level=1\nm1 d g 0 0 nch w=1u l=1u\nx1 a b c%d\n.end\n", levels),
+                     ERR_OK);
+    char *path = tu_tmpfile(name, b.data, b.len);
     buf_free(&b);
+    return path;
+}
+
+static void test_instance_limit_before_expanding(void **state)
+{
+    (void)state;
+    char *path = resistor_cells("deviceless.cir", 10);
     Design ds;
     DiagList d;
     diag_init(&d);
@@ -507,17 +516,7 @@ static void test_instance_limit_before_expanding(void **state)
     diag_free(&d);
     /* three levels of ten and the top's X card: 1111 instances, depth 5; a device limit of 223 allows
        1115 of them, one of 222 allows 1110 */
-    b = (Buf)BUF_INIT;
-    assert_int_equal(buf_puts(&b, "* three levels\n.subckt c0 a b\nr1 a b 1k\n.ends\n"), ERR_OK);
-    for (int i = 1; i <= 3; i++) {
-        assert_int_equal(buf_printf(&b, ".subckt c%d a b\n", i), ERR_OK);
-        for (int k = 1; k <= 10; k++)
-            assert_int_equal(buf_printf(&b, "x%d a b c%d\n", k, i - 1), ERR_OK);
-        assert_int_equal(buf_puts(&b, ".ends\n"), ERR_OK);
-    }
-    assert_int_equal(buf_puts(&b, ".model nch nmos level=1\nm1 d g 0 0 nch w=1u l=1u\nx1 a b c3\n.end\n"), ERR_OK);
-    char *path2 = tu_tmpfile("deviceless3.cir", b.data, b.len);
-    buf_free(&b);
+    char *path2 = resistor_cells("deviceless3.cir", 3);
     NlOptions o = {.max_devices = 223};
     diag_init(&d);
     assert_int_equal(nl_load(path2, &o, &ds, &d), ERR_OK);

@@ -58,6 +58,17 @@ static inline void fuzz_enter_private_dir(void)
     done = 1;
 }
 
+/* The libFuzzer initializer of a target that writes files: it works in its private folder. */
+#define FUZZ_IN_PRIVATE_DIR                                                                        \
+    int LLVMFuzzerInitialize(int *argc, char ***argv);                                             \
+    int LLVMFuzzerInitialize(int *argc, char ***argv)                                              \
+    {                                                                                              \
+        (void)argc;                                                                                \
+        (void)argv;                                                                                \
+        fuzz_enter_private_dir();                                                                  \
+        return 0;                                                                                  \
+    }
+
 /* An OpTable over data[0..n) as op_read builds one after loading a file (op_read's own file
  * handling is tested in tests/test_opdump.c and tests/hostile.sh; here the bytes come from memory). */
 static inline OpTable *fuzz_table(const uint8_t *data, size_t n, const char *path)

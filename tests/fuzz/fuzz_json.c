@@ -12,16 +12,9 @@
 #include "json.h"
 #include "merge.h"
 
-int LLVMFuzzerInitialize(int *argc, char ***argv);
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t n);
 
-int LLVMFuzzerInitialize(int *argc, char ***argv)
-{
-    (void)argc;
-    (void)argv;
-    fuzz_enter_private_dir();
-    return 0;
-}
+FUZZ_IN_PRIVATE_DIR
 
 static void check_value(const JsonValue *v, unsigned depth)
 {

@@ -8,16 +8,9 @@
 
 #include "lut.h"
 
-int LLVMFuzzerInitialize(int *argc, char ***argv);
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t n);
 
-int LLVMFuzzerInitialize(int *argc, char ***argv)
-{
-    (void)argc;
-    (void)argv;
-    fuzz_enter_private_dir();
-    return 0;
-}
+FUZZ_IN_PRIVATE_DIR
 
 static void write_file(const char *name, const void *p, size_t n)
 {

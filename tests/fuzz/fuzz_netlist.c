@@ -124,16 +124,9 @@ static int same(const Buf *a, const Buf *b)
     return a->len == b->len && (a->len == 0 || memcmp(a->data, b->data, a->len) == 0);
 }
 
-int LLVMFuzzerInitialize(int *argc, char ***argv);
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t n);
 
-int LLVMFuzzerInitialize(int *argc, char ***argv)
-{
-    (void)argc;
-    (void)argv;
-    fuzz_enter_private_dir();
-    return 0;
-}
+FUZZ_IN_PRIVATE_DIR
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t n)
 {

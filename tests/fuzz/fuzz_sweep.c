@@ -1,26 +1,19 @@
 /* fuzz_sweep: the reader of ngspice's sweep output that `biaslint characterize` uses
- * (char_read_sweep), on arbitrary bytes as the raw file of a small fixed grid: two lengths, VGS 0 to
- * 0.2 V and VDS 0 to 0.1 V in 0.1 V steps, VSB 0. The first byte picks the model: bit 0 a PMOS,
- * bit 1 levels 1 to 3 (else BSIM); the rest is the file. The seeds (tests/fuzz/seeds/sweep/) are
- * ngspice's own output for that grid on the demo's models.
+ * (char_read_sweep), on arbitrary bytes as the raw file of a small fixed grid (tests/sweepgrid.h).
+ * The first byte picks the model: bit 0 a PMOS, bit 1 levels 1 to 3 (else BSIM); the rest is the
+ * file. The seeds (tests/fuzz/seeds/sweep/) are ngspice's own output for that grid on the demo's
+ * models.
  *
  * Promises checked: a success has no error; a failure has an error with a message (the reader's
  * messages name no file: the raw file is biaslint's own temporary one, so char_build puts them in
  * a message about the model file). */
 #include "fuzz.h"
 
-#include "characterize.h"
+#include "../sweepgrid.h"
 
-int LLVMFuzzerInitialize(int *argc, char ***argv);
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t n);
 
-int LLVMFuzzerInitialize(int *argc, char ***argv)
-{
-    (void)argc;
-    (void)argv;
-    fuzz_enter_private_dir();
-    return 0;
-}
+FUZZ_IN_PRIVATE_DIR
 
 int LLVMFuzzerTestOneInput(const uint8_t *data, size_t n)
 {
@@ -29,17 +22,8 @@ int LLVMFuzzerTestOneInput(const uint8_t *data, size_t n)
     FILE *fp = fopen("sweep.raw", "wb");
     if (!fp || (n > 1 && fwrite(data + 1, 1, n - 1, fp) != n - 1) || fclose(fp) != 0)
         abort();
-    static const double l[] = {0.5e-6, 1e-6};
     CharSpec s;
-    memset(&s, 0, sizeof s);
-    s.model = "fuzz";
-    s.l = l;
-    s.nl = 2;
-    s.vgs = (CharRange){0, 0.2, 0.1};
-    s.vds = (CharRange){0, 0.1, 0.1};
-    s.vsb = (CharRange){0, 0, 0.1};
-    s.temp_c = NAN;
-    s.w_ref = 10e-6;
+    sweep_grid(&s);
     DiagList d;
     diag_init(&d);
     int rc = char_read_sweep(&s, data[0] & 1 ? MOS_PMOS : MOS_NMOS, !(data[0] & 2), "sweep.raw", &d);
