@@ -20,6 +20,7 @@
 
 #include "buf.h"
 #include "groups.h"
+#include "lut.h"
 #include "report.h"
 #include "strtab.h"
 
@@ -525,13 +526,12 @@ static void check_row(Ctx *c, size_t i, const Row *r, const Need *need)
 
     if (!r->op) {
         if (nodata->enabled && r->lut_miss) {
-            static const char *const axis[] = {"L", "VSB", "VDS", "VGS"}; /* LutAxis order */
             char which[40] = "";
             int many = 0;
-            for (int k = 0, n = 0; k < 4; k++)
+            for (int k = 0, n = 0; k < LUTAX_COUNT; k++)
                 if (r->lut_miss & (1u << k)) {
                     many = n > 0;
-                    n += snprintf(which + n, sizeof which - (size_t)n, "%s%s", n ? " and " : "", axis[k]);
+                    n += snprintf(which + n, sizeof which - (size_t)n, "%s%s", n ? " and " : "", lut_axis_label[k]);
                 }
             add(c, i, dv, CHECK_NODATA, nodata->sev, NAN, NAN, nodata->from,
                 "no figures: the dump has no record for this device and its %s %s outside the grid of the "
