@@ -275,6 +275,14 @@ static void list_add(NameList *l, const char *name, const char *why)
         l->len += (size_t)w;
 }
 
+/* "N <what>: a, b, c, d, e, ..." at the dump, when the list has any name. */
+static void list_report(DiagList *d, DiagSeverity sev, const char *dump, const NameList *l, const char *what)
+{
+    if (l->n)
+        diag_add(d, sev, (SrcLoc){dump, 0, 0}, "%zu %s: %s%s", l->n, what, l->list,
+                 l->n > JOIN_NAMES_LISTED ? ", ..." : "");
+}
+
 static int fill_from_tables(const Design *ds, const OpTable *t, const RuleSet *rs, const JoinOptions *opt,
                             const Lut *const *tables, size_t ntables, Joined *out, DiagList *d)
 {
@@ -403,22 +411,13 @@ static int fill_from_tables(const Design *ds, const OpTable *t, const RuleSet *r
                  "%zu MOSFETs have no device data in this dump: their figures come from the tables, at the bias "
                  "of their node voltages",
                  out->ntable);
-    if (outside.n)
-        diag_add(d, DIAG_WARNING, (SrcLoc){dump, 0, 0},
-                 "%zu MOSFETs lie outside their table's grid and get no figures (a table never extrapolates): %s%s",
-                 outside.n, outside.list, outside.n > JOIN_NAMES_LISTED ? ", ..." : "");
-    if (notable.n)
-        diag_add(d, DIAG_WARNING, (SrcLoc){dump, 0, 0},
-                 "%zu MOSFETs have no data in this dump and no table for their model and type: %s%s", notable.n,
-                 notable.list, notable.n > JOIN_NAMES_LISTED ? ", ..." : "");
-    if (nonodes.n)
-        diag_add(d, DIAG_WARNING, (SrcLoc){dump, 0, 0},
-                 "%zu MOSFETs have no data in this dump and the voltage of one of their nodes is missing too: %s%s",
-                 nonodes.n, nonodes.list, nonodes.n > JOIN_NAMES_LISTED ? ", ..." : "");
-    if (narrow.n)
-        diag_add(d, DIAG_NOTE, (SrcLoc){dump, 0, 0},
-                 "%zu table-derived MOSFETs have a finger width (W/nf) far from their table's reference width; "
-                 "their figures are the table's scaled by W, which leaves out narrow-width effects: %s%s",
-                 narrow.n, narrow.list, narrow.n > JOIN_NAMES_LISTED ? ", ..." : "");
+    list_report(d, DIAG_WARNING, dump, &outside,
+                "MOSFETs lie outside their table's grid and get no figures (a table never extrapolates)");
+    list_report(d, DIAG_WARNING, dump, &notable, "MOSFETs have no data in this dump and no table for their model and type");
+    list_report(d, DIAG_WARNING, dump, &nonodes,
+                "MOSFETs have no data in this dump and the voltage of one of their nodes is missing too");
+    list_report(d, DIAG_NOTE, dump, &narrow,
+                "table-derived MOSFETs have a finger width (W/nf) far from their table's reference width; their "
+                "figures are the table's scaled by W, which leaves out narrow-width effects");
     return ERR_OK;
 }
