@@ -7,6 +7,8 @@
 #include <pthread.h>
 #include <stdlib.h>
 #include <string.h>
+#include <stdio.h>
+#include <time.h>
 
 #include "annotate.h"
 #include "baseline.h"
@@ -23,6 +25,30 @@
 #include "report.h"
 #include "rules.h"
 #include "source.h"
+
+/* BIASLINT_STAGES=1 in the environment: the wall time of each stage on standard error (for
+ * profiling; tests/bench/bench.sh shows it with BENCH_STAGES=1). */
+typedef struct {
+    int on;
+    struct timespec t0;
+} Stages;
+
+static void stage_init(Stages *s)
+{
+    const char *e = getenv("BIASLINT_STAGES");
+    s->on = e && *e && strcmp(e, "0") != 0;
+    clock_gettime(CLOCK_MONOTONIC, &s->t0);
+}
+
+static void stage(Stages *s, const char *name)
+{
+    if (!s->on)
+        return;
+    struct timespec t;
+    clock_gettime(CLOCK_MONOTONIC, &t);
+    fprintf(stderr, "stage %-10s %8.3f s\n", name, (double)(t.tv_sec - s->t0.tv_sec) + (double)(t.tv_nsec - s->t0.tv_nsec) * 1e-9);
+    s->t0 = t;
+}
 
 static int exit_for(int status)
 {
@@ -280,6 +306,8 @@ int run_check(const Options *o, FILE *out, int color, DiagList *d)
     Lut **luts = NULL; /* check --table */
     int status = EXIT_BAD_INPUT, rc;
     DumpJob dumps = {0};
+    Stages st;
+    stage_init(&st);
     if (!cr || !corners || !outs) {
         free(cr);
         free(corners);
@@ -320,6 +348,7 @@ int run_check(const Options *o, FILE *out, int color, DiagList *d)
         status = exit_for(rc);
         goto done;
     }
+    stage(&st, "netlist");
     if (ds.ndevs == 0) {
         const SrcFile *top = ds.files.files[0];
         diag_add(d, DIAG_ERROR, (SrcLoc){top->path, top->len ? 1 : 0, top->len ? 1 : 0},
@@ -335,10 +364,12 @@ int run_check(const Options *o, FILE *out, int color, DiagList *d)
         status = exit_for(rc);
         goto done;
     }
+    stage(&st, "intents");
     if ((rc = dump_finish(&dumps, d, 1)) != ERR_OK) {
         status = exit_for(rc);
         goto done;
     }
+    stage(&st, "dumps");
     /* PDK netlists: record names under the testbench prefix, transistors read from their X cards;
        from the first dump, for every corner (opbind.h) */
     BindOptions bo = {o->prefix, o->top != NULL};
@@ -356,6 +387,7 @@ int run_check(const Options *o, FILE *out, int color, DiagList *d)
             status = d->oom ? EXIT_INTERNAL : EXIT_BAD_INPUT;
             goto done;
         }
+    stage(&st, "bind");
     JoinOptions jo = {o->add_overlap, 0.5};
     for (size_t k = 0; k < ncr; k++) {
         if ((rc = join_run_tables(&ds, cr[k].op, rs, &jo, (const struct Lut *const *)luts, o->ntables, &cr[k].jn,
@@ -371,6 +403,7 @@ int run_check(const Options *o, FILE *out, int color, DiagList *d)
         corners[k] = (RepCorner){ops[k].label, ops[k].path, cr[k].op, &cr[k].jn, &cr[k].fs};
     }
 
+    stage(&st, "join+check");
     size_t ninputs = 0;
     if (!(inputs = input_paths(&ds, o, &ninputs))) {
         status = exit_for(diag_nomem(d));
@@ -396,6 +429,7 @@ int run_check(const Options *o, FILE *out, int color, DiagList *d)
         }
         c.baseline = &cmp;
     }
+    stage(&st, "prepare");
     /* open every output first, so a bad output path costs nothing and leaves nothing */
     if (o->annotate && (rc = out_open(&ann, o->annotate, inputs, ninputs, d)) != ERR_OK)
         goto done;
@@ -416,8 +450,10 @@ int run_check(const Options *o, FILE *out, int color, DiagList *d)
             break;
         }
     }
+    stage(&st, "reports");
     if (ath_on)
         pthread_join(ath, NULL);
+    stage(&st, "annotate");
     /* errors as when the annotation was written first: its failure is the one reported */
     if (o->annotate && aj.rc != ERR_OK) {
         if (aj.rc == ERR_NOMEM)
@@ -439,6 +475,7 @@ int run_check(const Options *o, FILE *out, int color, DiagList *d)
     for (size_t i = 0; i < nout; i++)
         if (outs[i].path && out_commit(&outs[i].of, d) != ERR_OK)
             goto done;
+    stage(&st, "commit");
     status = rep_failing(&c) ? EXIT_FINDINGS : EXIT_CLEAN;
 done:
     if (dumps.cr)
