@@ -18,7 +18,7 @@
 
 typedef struct Baseline Baseline;
 
-/* Read a JSON report written by `biaslint check --format json` (schema 1 or 2). Errors (the file
+/* Read a JSON report written by `biaslint check --format json` (schema 1, 2 or 3). Errors (the file
  * cannot be read, is not JSON, is not a biaslint report, or a finding lacks its keys) are located
  * at file:line:column; *out is then NULL. ERR_OK, ERR_IO, ERR_INPUT, ERR_LIMIT, ERR_NOMEM. */
 int bl_load(const char *path, Baseline **out, DiagList *d) MUST_CHECK;

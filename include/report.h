@@ -176,11 +176,24 @@ char *rep_eng(double v, const char *unit, char *buf, size_t size);
 void rep_html_open(FILE *fp, const char *what, const char *subject, const char *detail);
 void rep_html_close(FILE *fp);
 
+/* The schema of the JSON report (report_json.c). 3: keys whose value is absent are left out of the
+ * objects in its arrays, figures biaslint computed have six significant digits. Baselines and merge
+ * read every schema up to this one. */
+#define REP_JSON_SCHEMA 3
+static inline int rep_json_schema_known(double schema)
+{
+    return schema == 1 || schema == 2 || schema == 3;
+}
+
 /* ---- escaping shared by the writers ---- */
 
 /* s as the inside of a JSON string: quotes, backslash and control characters escaped, valid UTF-8
  * kept, invalid bytes written as \ufffd. NULL writes nothing. */
 void rep_json_raw(FILE *fp, const char *s);
+/* The same for the n bytes at s into dst, which has room for REP_JSON_ESC_MAX * n bytes; returns the
+ * bytes written. s[n] must be a byte that starts a character, or the string's NUL. */
+#define REP_JSON_ESC_MAX 6
+size_t rep_json_escape(char *dst, const char *s, size_t n);
 /* A JSON string in quotes, or null for NULL. */
 void rep_json_str(FILE *fp, const char *s);
 /* The shortest of %.15g..%.17g that reads back as v; null for NaN and infinities. */

@@ -177,12 +177,12 @@ static int header(Baseline *b, const JsonValue *root)
     const JsonValue *tool = json_get(root, "tool"), *schema = json_get(root, "schema");
     if (!tool || tool->type != JSON_STRING || strcmp(tool->str, "biaslint") != 0)
         return bad(b, tool ? tool : root, "not a biaslint JSON report: it has no \"tool\": \"biaslint\"");
-    if (!schema || schema->type != JSON_NUMBER || (schema->num != 1 && schema->num != 2)) {
-        if (schema && schema->type == JSON_NUMBER && schema->num > 2)
-            return bad(b, schema, "this report has schema %g; this biaslint reads schemas 1 and 2: use the "
+    if (!schema || schema->type != JSON_NUMBER || !rep_json_schema_known(schema->num)) {
+        if (schema && schema->type == JSON_NUMBER && schema->num > REP_JSON_SCHEMA)
+            return bad(b, schema, "this report has schema %g; this biaslint reads schemas 1 to %d: use the "
                                   "biaslint that wrote it, or a newer one",
-                       schema->num);
-        return bad(b, schema ? schema : root, "the report has no \"schema\" number (1 or 2)");
+                       schema->num, REP_JSON_SCHEMA);
+        return bad(b, schema ? schema : root, "the report has no \"schema\" number (1 to %d)", REP_JSON_SCHEMA);
     }
     const JsonValue *f = json_get(root, "findings"), *dv = json_get(root, "devices");
     if (!f || f->type != JSON_ARRAY)

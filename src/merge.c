@@ -3,6 +3,7 @@
  * (Welford), region counts, failing checks counted once per run, the worst run. A run that fails
  * to parse changes nothing. Linear in the samples; entries found through a hash of interned keys. */
 #include "merge.h"
+#include "report.h"
 
 #include <math.h>
 #include <stdarg.h>
@@ -388,8 +389,8 @@ int mrg_add(MrgResult *m, const char *path, DiagList *d)
             rc = bad(m, tool ? tool : root, "not a biaslint JSON report: it has no \"tool\": \"biaslint\"");
         else if (kind && kind->type == JSON_STRING && strcmp(kind->str, "merge") == 0)
             rc = bad(m, kind, "this is a merge summary, not the report of one run: merge the runs themselves");
-        else if (!schema || schema->type != JSON_NUMBER || (schema->num != 1 && schema->num != 2))
-            rc = bad(m, schema ? schema : root, "this biaslint reads reports of schema 1 and 2 only");
+        else if (!schema || schema->type != JSON_NUMBER || !rep_json_schema_known(schema->num))
+            rc = bad(m, schema ? schema : root, "this biaslint reads reports of schema 1 to %d only", REP_JSON_SCHEMA);
         else if (!json_get(root, "devices"))
             rc = bad(m, root, "the report has no \"devices\" array");
         if (rc == ERR_OK) {

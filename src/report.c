@@ -497,46 +497,69 @@ static size_t utf8_seq(const unsigned char *p)
     return len;
 }
 
-void rep_json_raw(FILE *fp, const char *s)
+size_t rep_json_escape(char *dst, const char *s, size_t n)
 {
-    if (!s)
-        return;
-    const unsigned char *p = (const unsigned char *)s;
-    while (*p) {
-        const unsigned char *run = p; /* a run that needs no escape goes out in one call */
-        while (*p >= 0x20 && *p < 0x80 && *p != '"' && *p != '\\')
-            p++;
-        if (p > run)
-            fwrite(run, 1, (size_t)(p - run), fp);
-        if (!*p)
-            break;
+    const unsigned char *p = (const unsigned char *)s, *end = p + n;
+    char *d = dst;
+    while (p < end) {
         unsigned char c = *p;
+        if (c >= 0x20 && c < 0x80 && c != '"' && c != '\\') {
+            *d++ = (char)c;
+            p++;
+            continue;
+        }
         if (c < 0x80) {
+            const char *e = NULL;
             switch (c) {
-            case '"': fputs("\\\"", fp); break;
-            case '\\': fputs("\\\\", fp); break;
-            case '\n': fputs("\\n", fp); break;
-            case '\r': fputs("\\r", fp); break;
-            case '\t': fputs("\\t", fp); break;
-            case '\b': fputs("\\b", fp); break;
-            case '\f': fputs("\\f", fp); break;
-            default:
-                if (c < 0x20)
-                    fprintf(fp, "\\u%04x", c);
-                else
-                    fputc(c, fp);
+            case '"': e = "\\\""; break;
+            case '\\': e = "\\\\"; break;
+            case '\n': e = "\\n"; break;
+            case '\r': e = "\\r"; break;
+            case '\t': e = "\\t"; break;
+            case '\b': e = "\\b"; break;
+            case '\f': e = "\\f"; break;
+            default: break;
+            }
+            if (e) {
+                *d++ = e[0];
+                *d++ = e[1];
+            } else {
+                static const char hex[] = "0123456789abcdef";
+                memcpy(d, "\\u00", 4);
+                d[4] = hex[c >> 4];
+                d[5] = hex[c & 15];
+                d += 6;
             }
             p++;
             continue;
         }
         size_t len = utf8_seq(p);
         if (len) {
-            fwrite(p, 1, len, fp);
+            memcpy(d, p, len);
+            d += len;
             p += len;
         } else {
-            fputs("\\ufffd", fp);
+            memcpy(d, "\\ufffd", 6);
+            d += 6;
             p++;
         }
+    }
+    return (size_t)(d - dst);
+}
+
+void rep_json_raw(FILE *fp, const char *s)
+{
+    if (!s)
+        return;
+    /* in pieces of at most 128 bytes, each cut before a byte that starts a character */
+    char out[128 * REP_JSON_ESC_MAX];
+    size_t n = strlen(s), at = 0;
+    while (at < n) {
+        size_t k = n - at < 128 ? n - at : 128;
+        while (at + k < n && k > 1 && ((unsigned char)s[at + k] & 0xc0) == 0x80)
+            k--;
+        fwrite(out, 1, rep_json_escape(out, s + at, k), fp);
+        at += k;
     }
 }
 

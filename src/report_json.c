@@ -1,173 +1,257 @@
-/* report_json: the machine-readable report (schema 2, documented in README): tool and inputs, the
+/* report_json: the machine-readable report (schema 3, documented in README): tool and inputs, the
  * corners, one object per device with its sizes and, per corner, its normalized operating point and
  * figures, the findings of every corner with the worst corner of their device and check, the
- * comparison with a baseline, and a summary. SI units throughout; an absent value is null, never 0;
- * numbers are written with the fewest digits that read back to the same double. One device or
- * finding per line, so the file diffs and greps well.
+ * comparison with a baseline, and a summary. SI units throughout; an absent value is never 0: its
+ * key is left out of the objects in arrays (null at the top level). Values as read or given are
+ * written with the fewest digits that read back to the same double, figures biaslint computed with
+ * six significant digits. One device or finding per line, without spaces, so the file diffs and
+ * greps well and a million devices stay a few hundred bytes each.
  *
  * With one corner a device keeps the flat layout of schema 1 (figures beside the name); with
- * several, its figures sit in a "corners" array, one object per corner. */
+ * several, its figures sit in a "corners" array, one object per corner.
+ *
+ * The text is built in a buffer of its own and written in large pieces (no stdio call per key). */
 #include "report.h"
 
 #include <math.h>
+#include <stdint.h>
+#include <stdlib.h>
 #include <string.h>
 
 #include "diag.h"
 #include "numfmt.h"
 
-#define JSON_SCHEMA 2
 
-static void key(FILE *fp, const char *k, int first)
+/* ---- the writer: the report is built in a buffer and written in large pieces ---- */
+
+#define JW_FLUSH ((size_t)1 << 18) /* bytes kept before a write to the file */
+
+typedef struct {
+    FILE *fp;   /* where full buffers go; NULL: everything stays in the buffer (a chunk of devices) */
+    char *p;
+    size_t n, cap;
+    int bad;    /* out of memory or a write failed: the rest is dropped, the report fails */
+} JW;
+
+/* Make room for k more bytes: writes out what waits, or grows. 0 when it cannot. */
+static int jw_make_room(JW *w, size_t k)
 {
-    if (!first)
-        fputs(", ", fp);
-    rep_json_str(fp, k);
-    fputs(": ", fp);
+    if (w->bad)
+        return 0;
+    if (w->fp && w->n && w->n + k > w->cap) {
+        if (fwrite(w->p, 1, w->n, w->fp) != w->n)
+            return w->bad = 1, 0;
+        w->n = 0;
+    }
+    if (w->n + k <= w->cap)
+        return 1;
+    size_t cap = w->cap ? w->cap : (w->fp ? JW_FLUSH : 4096);
+    while (cap < w->n + k) {
+        if (cap > SIZE_MAX / 2)
+            return w->bad = 1, 0;
+        cap *= 2;
+    }
+    char *p = realloc(w->p, cap);
+    if (!p)
+        return w->bad = 1, 0;
+    w->p = p;
+    w->cap = cap;
+    return 1;
 }
 
-/* ", \"k\": " and text[0..n) in one write. A report of a million devices makes tens of millions of
- * these; one stdio call per key and value, instead of one per piece and per character, is most of
- * the writer's time. Keys are this file's own plain names; anything else goes the escaping way. */
-static void kv_text(FILE *fp, const char *k, const char *text, size_t n)
+static inline int jw_room(JW *w, size_t k)
 {
-    char b[160];
-    size_t kn = strlen(k);
-    int plain = kn + n + 6 <= sizeof b;
-    for (size_t i = 0; plain && i < kn; i++)
-        plain = k[i] >= 0x20 && k[i] < 0x7f && k[i] != '"' && k[i] != '\\';
-    if (!plain) {
-        key(fp, k, 0);
-        fwrite(text, 1, n, fp);
+    return w->cap - w->n >= k ? 1 : jw_make_room(w, k);
+}
+
+static void jw_raw(JW *w, const char *s, size_t n)
+{
+    if (jw_room(w, n)) {
+        memcpy(w->p + w->n, s, n);
+        w->n += n;
+    }
+}
+
+#define JW_LIT(w, s) jw_raw((w), (s), sizeof(s) - 1)
+
+/* Out to the file (a writer with a file), and the buffer freed. ERR_OK, ERR_NOMEM or ERR_IO. */
+static int jw_close(JW *w)
+{
+    if (w->fp && !w->bad && w->n && fwrite(w->p, 1, w->n, w->fp) != w->n)
+        w->bad = 1;
+    free(w->p);
+    w->p = NULL;
+    w->n = w->cap = 0;
+    return w->bad ? (w->fp ? ERR_IO : ERR_NOMEM) : ERR_OK;
+}
+
+/* A string in quotes, escaped; null for NULL. */
+static void jw_str(JW *w, const char *s)
+{
+    if (!s) {
+        JW_LIT(w, "null");
         return;
     }
-    memcpy(b, ", \"", 3);
-    memcpy(b + 3, k, kn);
-    memcpy(b + 3 + kn, "\": ", 3);
-    memcpy(b + 6 + kn, text, n);
-    fwrite(b, 1, kn + 6 + n, fp);
+    size_t n = strlen(s);
+    if (jw_room(w, n * REP_JSON_ESC_MAX + 2)) {
+        w->p[w->n++] = '"';
+        w->n += rep_json_escape(w->p + w->n, s, n);
+        w->p[w->n++] = '"';
+    }
 }
 
-static void kv_str(FILE *fp, const char *k, const char *v)
+/* ,"k": (keys are this file's plain names) */
+static void jw_key(JW *w, const char *k)
 {
-    if (!v) {
-        kv_text(fp, k, "null", 4);
-        return;
+    size_t n = strlen(k);
+    if (jw_room(w, n + 4)) {
+        char *d = w->p + w->n;
+        d[0] = ',';
+        d[1] = '"';
+        memcpy(d + 2, k, n);
+        d[n + 2] = '"';
+        d[n + 3] = ':';
+        w->n += n + 4;
     }
-    char b[130];
-    size_t n = 0;
-    b[n++] = '"';
-    for (const char *q = v; *q; q++) { /* a short name that needs no escape, quoted as it is */
-        unsigned char ch = (unsigned char)*q;
-        if (n >= sizeof b - 2 || ch < 0x20 || ch >= 0x80 || ch == '"' || ch == '\\') {
-            key(fp, k, 0);
-            rep_json_str(fp, v);
-            return;
-        }
-        b[n++] = (char)ch;
-    }
-    b[n++] = '"';
-    kv_text(fp, k, b, n);
 }
 
-static void kv_num(FILE *fp, const char *k, double v)
+/* The keys below are left out when their value is absent (null): a reader takes a missing key for
+ * null. */
+static void kv_str(JW *w, const char *k, const char *v)
 {
-    char b[NUMFMT_SIZE];
+    if (v) {
+        jw_key(w, k);
+        jw_str(w, v);
+    }
+}
+
+static void jw_num(JW *w, double v)
+{
     if (!isfinite(v))
-        kv_text(fp, k, "null", 4);
-    else
-        kv_text(fp, k, b, numfmt_json(b, v)); /* as rep_json_num writes it */
+        JW_LIT(w, "null");
+    else if (jw_room(w, NUMFMT_SIZE))
+        w->n += numfmt_json(w->p + w->n, v);
 }
 
-static void kv_uint(FILE *fp, const char *k, size_t v)
+/* A number as read or as given: the fewest digits that read back to the same double. */
+static void kv_num(JW *w, const char *k, double v)
 {
-    key(fp, k, 0);
-    fprintf(fp, "%zu", v);
-}
-
-static void kv_line(FILE *fp, const char *k, uint32_t line)
-{
-    char b[12];
-    size_t n = sizeof b;
-    if (!line) {
-        kv_text(fp, k, "null", 4);
-        return;
+    if (isfinite(v)) {
+        jw_key(w, k);
+        jw_num(w, v);
     }
-    for (uint32_t x = line; x; x /= 10)
-        b[--n] = (char)('0' + x % 10);
-    kv_text(fp, k, b + n, sizeof b - n);
 }
 
-static void kv_bool(FILE *fp, const char *k, int v)
+/* A figure biaslint computed: six significant digits, the precision of a simulator's printout
+ * (more would only show rounding noise of the arithmetic). */
+#define FIG_DIGITS 6
+static void kv_fig(JW *w, const char *k, double v)
 {
-    kv_text(fp, k, v ? "true" : "false", v ? 4 : 5);
+    if (isfinite(v)) {
+        jw_key(w, k);
+        if (jw_room(w, NUMFMT_SIZE))
+            w->n += numfmt_g(w->p + w->n, v, FIG_DIGITS);
+    }
 }
 
-/* The figures of one row, each key preceded by ", ". */
-static void figures(FILE *fp, const Row *r)
+static void jw_uint(JW *w, size_t v)
+{
+    char b[24];
+    size_t n = sizeof b;
+    do
+        b[--n] = (char)('0' + v % 10);
+    while (v /= 10);
+    jw_raw(w, b + n, sizeof b - n);
+}
+
+static void kv_uint(JW *w, const char *k, size_t v)
+{
+    jw_key(w, k);
+    jw_uint(w, v);
+}
+
+static void kv_line(JW *w, const char *k, uint32_t line)
+{
+    if (line)
+        kv_uint(w, k, line);
+}
+
+static void kv_bool(JW *w, const char *k, int v)
+{
+    jw_key(w, k);
+    if (v)
+        JW_LIT(w, "true");
+    else
+        JW_LIT(w, "false");
+}
+
+/* The figures of one row, each key preceded by ",". */
+static void figures(JW *w, const Row *r)
 {
     const Figures *f = &r->fig;
-    kv_bool(fp, "has_data", r->op != NULL);
-    kv_num(fp, "id", f->id);
-    kv_num(fp, "gm", f->gm);
-    kv_num(fp, "gds", f->gds);
-    kv_num(fp, "gmbs", f->gmbs);
-    kv_num(fp, "vgs", f->vgs);
-    kv_num(fp, "vds", f->vds);
-    kv_num(fp, "vsb", f->vsb);
-    kv_num(fp, "vth", f->vth);
-    kv_num(fp, "vdsat", f->vdsat);
-    kv_num(fp, "cgg", f->cgg);
-    kv_str(fp, "cgg_source", !r->op || isnan(f->cgg) ? NULL : f->cgg_summed ? "cgs+cgd+cgb" : "cgg");
-    kv_bool(fp, "cgg_overlap", r->op && f->cgg_overlap);
-    kv_num(fp, "gm_id", f->gm_id);
-    kv_num(fp, "id_w", f->id_w);
-    kv_num(fp, "gain", f->gain);
-    kv_num(fp, "ft", f->ft);
-    kv_num(fp, "vov", f->vov);
-    kv_num(fp, "margin", f->margin);
-    kv_str(fp, "region", fig_region_name[(unsigned)f->region < REGION_COUNT && r->op ? f->region : 0]);
-    kv_bool(fp, "swapped", r->op && f->swapped);
-    kv_str(fp, "source", rep_source(r));
-    kv_str(fp, "table", rep_table_path(r));
-    double w = NAN, g = NAN;
-    rep_suggestion(r, &w, &g);
-    kv_num(fp, "suggest_w", w);
-    kv_num(fp, "suggest_gm_id", g);
+    kv_bool(w, "has_data", r->op != NULL);
+    kv_num(w, "id", f->id);
+    kv_num(w, "gm", f->gm);
+    kv_num(w, "gds", f->gds);
+    kv_num(w, "gmbs", f->gmbs);
+    kv_num(w, "vgs", f->vgs);
+    kv_num(w, "vds", f->vds);
+    kv_num(w, "vsb", f->vsb);
+    kv_num(w, "vth", f->vth);
+    kv_num(w, "vdsat", f->vdsat);
+    kv_num(w, "cgg", f->cgg);
+    kv_str(w, "cgg_source", !r->op || isnan(f->cgg) ? NULL : f->cgg_summed ? "cgs+cgd+cgb" : "cgg");
+    kv_bool(w, "cgg_overlap", r->op && f->cgg_overlap);
+    kv_fig(w, "gm_id", f->gm_id);
+    kv_fig(w, "id_w", f->id_w);
+    kv_fig(w, "gain", f->gain);
+    kv_fig(w, "ft", f->ft);
+    kv_fig(w, "vov", f->vov);
+    kv_fig(w, "margin", f->margin);
+    kv_str(w, "region", fig_region_name[(unsigned)f->region < REGION_COUNT && r->op ? f->region : 0]);
+    kv_bool(w, "swapped", r->op && f->swapped);
+    kv_str(w, "source", rep_source(r));
+    kv_str(w, "table", rep_table_path(r));
+    double sw = NAN, g = NAN;
+    rep_suggestion(r, &sw, &g);
+    kv_fig(w, "suggest_w", sw);
+    kv_fig(w, "suggest_gm_id", g);
 }
 
-static void device(const ReportCtx *c, FILE *fp, size_t i)
+static void device(const ReportCtx *c, JW *w, size_t i)
 {
     const Row *r0 = &c->corners[0].joined->rows[i];
     const Device *dv = r0->dev;
     const char *file;
     uint32_t line;
     rep_card_place(c->design, dv, &file, &line);
-    fputs("    {", fp);
-    key(fp, "name", 1);
-    rep_json_str(fp, dv->name);
-    kv_str(fp, "model", dv->model);
-    kv_str(fp, "type", rep_type_name(dv->type));
-    kv_str(fp, "cell", dv->cell);
-    kv_num(fp, "w", dv->w);
-    kv_num(fp, "l", dv->l);
-    kv_num(fp, "m", dv->m);
-    kv_num(fp, "nf", dv->nf);
-    kv_str(fp, "file", file);
-    kv_line(fp, "line", line);
+    JW_LIT(w, "    {\"name\":");
+    jw_str(w, dv->name);
+    kv_str(w, "model", dv->model);
+    kv_str(w, "type", rep_type_name(dv->type));
+    kv_str(w, "cell", dv->cell);
+    kv_num(w, "w", dv->w);
+    kv_num(w, "l", dv->l);
+    kv_num(w, "m", dv->m);
+    kv_num(w, "nf", dv->nf);
+    kv_str(w, "file", file);
+    kv_line(w, "line", line);
     if (c->ncorners == 1) {
-        figures(fp, r0);
+        figures(w, r0);
     } else {
-        fputs(", \"corners\": [", fp);
+        JW_LIT(w, ",\"corners\":[");
         for (size_t k = 0; k < c->ncorners; k++) {
-            fputs(k ? ", {" : "{", fp);
-            key(fp, "corner", 1);
-            rep_json_str(fp, c->corners[k].label);
-            figures(fp, &c->corners[k].joined->rows[i]);
-            fputc('}', fp);
+            if (k)
+                JW_LIT(w, ",{\"corner\":");
+            else
+                JW_LIT(w, "{\"corner\":");
+            jw_str(w, c->corners[k].label);
+            figures(w, &c->corners[k].joined->rows[i]);
+            JW_LIT(w, "}");
         }
-        fputc(']', fp);
+        JW_LIT(w, "]");
     }
-    fputc('}', fp);
+    JW_LIT(w, "}");
 }
 
 static const char *sev_name(Severity s)
@@ -175,72 +259,84 @@ static const char *sev_name(Severity s)
     return rule_severity_name[(unsigned)s < SEV_COUNT ? s : 0];
 }
 
-static void origin(FILE *fp, const char *k, RuleOrigin o);
+static void origin(JW *w, const char *k, RuleOrigin o);
 
 /* The keys every finding has, new or resolved, after "device". */
-static void finding_core(FILE *fp, const char *check, Severity sev, double value, double limit, const char *msg,
+static void finding_core(JW *w, const char *check, Severity sev, double value, double limit, const char *msg,
                          const char *file, uint32_t line, RuleOrigin rule)
 {
-    kv_str(fp, "check", check);
-    kv_str(fp, "severity", sev_name(sev));
-    kv_num(fp, "value", value);
-    kv_num(fp, "limit", limit);
-    kv_str(fp, "message", msg);
-    kv_str(fp, "file", file);
-    kv_line(fp, "line", line);
-    origin(fp, "rule", rule);
-    kv_str(fp, "rule_file", rule.file);
-    kv_line(fp, "rule_line", rule.line);
+    kv_str(w, "check", check);
+    kv_str(w, "severity", sev_name(sev));
+    kv_fig(w, "value", value);
+    kv_num(w, "limit", limit);
+    kv_str(w, "message", msg);
+    kv_str(w, "file", file);
+    kv_line(w, "line", line);
+    origin(w, "rule", rule);
+    kv_str(w, "rule_file", rule.file);
+    kv_line(w, "rule_line", rule.line);
 }
 
-static void origin(FILE *fp, const char *k, RuleOrigin o)
+/* "FILE:LINE" of a rule or waiver; left out when it has no file. */
+static void origin(JW *w, const char *k, RuleOrigin o)
 {
-    key(fp, k, 0);
-    if (!o.file) {
-        fputs("null", fp);
+    if (!o.file)
         return;
+    char b[NUMFMT_SIZE];
+    size_t n = 0;
+    if (o.line) {
+        b[n++] = ':';
+        char t[12];
+        size_t m = sizeof t;
+        for (uint32_t x = o.line; x; x /= 10)
+            t[--m] = (char)('0' + x % 10);
+        memcpy(b + n, t + m, sizeof t - m);
+        n += sizeof t - m;
     }
-    fputc('"', fp);
-    rep_json_raw(fp, o.file);
-    if (o.line)
-        fprintf(fp, ":%u", o.line);
-    fputc('"', fp);
+    size_t fn = strlen(o.file);
+    jw_key(w, k);
+    if (jw_room(w, fn * REP_JSON_ESC_MAX + n + 2)) {
+        w->p[w->n++] = '"';
+        w->n += rep_json_escape(w->p + w->n, o.file, fn);
+        memcpy(w->p + w->n, b, n);
+        w->n += n;
+        w->p[w->n++] = '"';
+    }
 }
 
-/* The keys of intents, matched groups and waivers (null when they do not apply). */
-static void intent_keys(FILE *fp, const Finding *f)
+/* The keys of intents, matched groups and waivers (left out when they do not apply). */
+static void intent_keys(JW *w, const Finding *f)
 {
-    kv_str(fp, "intended", f->intended);
-    kv_num(fp, "want_lo", f->want_lo);
-    kv_num(fp, "want_hi", f->want_hi);
-    kv_str(fp, "direction", f->direction);
-    kv_str(fp, "group", f->group);
-    kv_bool(fp, "waived", f->waived);
-    kv_str(fp, "waiver_reason", f->waived ? f->waiver_reason : NULL);
-    origin(fp, "waiver", f->waived ? f->waiver : (RuleOrigin){NULL, 0});
+    kv_str(w, "intended", f->intended);
+    kv_num(w, "want_lo", f->want_lo);
+    kv_num(w, "want_hi", f->want_hi);
+    kv_str(w, "direction", f->direction);
+    kv_str(w, "group", f->group);
+    kv_bool(w, "waived", f->waived);
+    kv_str(w, "waiver_reason", f->waived ? f->waiver_reason : NULL);
+    origin(w, "waiver", f->waived ? f->waiver : (RuleOrigin){NULL, 0});
 }
 
-static void finding(const ReportCtx *c, FILE *fp, const RepGroup *g, RepRef ref)
+static void finding(const ReportCtx *c, JW *w, const RepGroup *g, RepRef ref)
 {
     const Joined *j = c->corners[ref.corner].joined;
     const Finding *f = rep_finding(c, ref);
-    fputs("    {", fp);
-    key(fp, "device", 1);
-    rep_json_str(fp, f->row < j->n ? j->rows[f->row].dev->name : NULL);
-    finding_core(fp, rep_check_name((int)f->check), f->sev, f->value, f->limit, f->message, f->loc.file, f->loc.line,
+    JW_LIT(w, "    {\"device\":");
+    jw_str(w, f->row < j->n ? j->rows[f->row].dev->name : NULL);
+    finding_core(w, rep_check_name((int)f->check), f->sev, f->value, f->limit, f->message, f->loc.file, f->loc.line,
                  f->rule);
-    intent_keys(fp, f);
-    kv_str(fp, "corner", c->corners[ref.corner].label);
-    kv_str(fp, "worst_corner", c->corners[g->worst.corner].label);
-    kv_uint(fp, "in_corners", g->n);
+    intent_keys(w, f);
+    kv_str(w, "corner", c->corners[ref.corner].label);
+    kv_str(w, "worst_corner", c->corners[g->worst.corner].label);
+    kv_uint(w, "in_corners", g->n);
     if (c->baseline) {
         BlStatus st = rep_status(c, ref.corner, ref.index);
-        kv_str(fp, "status", st == BL_NEW ? "new" : "unchanged");
+        kv_str(w, "status", st == BL_NEW ? "new" : "unchanged");
         int8_t was = c->baseline->was_sev ? c->baseline->was_sev[c->prep->base[ref.corner] + ref.index] : -1;
-        kv_str(fp, "was_severity", was >= 0 ? sev_name((Severity)was) : NULL);
+        kv_str(w, "was_severity", was >= 0 ? sev_name((Severity)was) : NULL);
     }
-    kv_bool(fp, "fails", rep_fails(c, ref.corner, ref.index));
-    fputc('}', fp);
+    kv_bool(w, "fails", rep_fails(c, ref.corner, ref.index));
+    JW_LIT(w, "}");
 }
 
 static const char *format_word(const OpTable *t)
@@ -263,68 +359,87 @@ static size_t without_data(const Joined *j)
     return n;
 }
 
-static void corners(const ReportCtx *c, FILE *fp)
+/* Opens the k-th item of an array: a new line, indented. */
+static void item(JW *w, size_t k)
 {
-    fputs(",\n  \"corners\": [", fp);
+    if (k)
+        JW_LIT(w, ",\n    {");
+    else
+        JW_LIT(w, "\n    {");
+}
+
+/* Closes an array of n items. */
+static void close_array(JW *w, size_t n)
+{
+    if (n)
+        JW_LIT(w, "\n  ]");
+    else
+        JW_LIT(w, "]");
+}
+
+static void corners(const ReportCtx *c, JW *w)
+{
+    JW_LIT(w, ",\n  \"corners\":[");
     for (size_t k = 0; k < c->ncorners; k++) {
         const RepCorner *rc = &c->corners[k];
         const Findings *fs = rc->findings;
-        fputs(k ? ",\n    {" : "\n    {", fp);
-        key(fp, "label", 1);
-        rep_json_str(fp, rc->label);
-        kv_str(fp, "op", rc->op_path);
-        kv_str(fp, "op_format", format_word(rc->op));
-        kv_num(fp, "op_temp_c", rc->op ? rc->op->temp_c : NAN);
-        kv_uint(fp, "matched", rc->joined->nmatched);
-        kv_uint(fp, "without_data", without_data(rc->joined));
-        kv_uint(fp, "orphans", rc->joined->norphans);
-        kv_uint(fp, "errors", fs ? fs->count[SEV_ERROR] : 0);
-        kv_uint(fp, "warnings", fs ? fs->count[SEV_WARNING] : 0);
-        kv_uint(fp, "infos", fs ? fs->count[SEV_INFO] : 0);
-        fputc('}', fp);
+        item(w, k);
+        JW_LIT(w, "\"label\":");
+        jw_str(w, rc->label);
+        kv_str(w, "op", rc->op_path);
+        kv_str(w, "op_format", format_word(rc->op));
+        kv_num(w, "op_temp_c", rc->op ? rc->op->temp_c : NAN);
+        kv_uint(w, "matched", rc->joined->nmatched);
+        kv_uint(w, "without_data", without_data(rc->joined));
+        kv_uint(w, "orphans", rc->joined->norphans);
+        kv_uint(w, "errors", fs ? fs->count[SEV_ERROR] : 0);
+        kv_uint(w, "warnings", fs ? fs->count[SEV_WARNING] : 0);
+        kv_uint(w, "infos", fs ? fs->count[SEV_INFO] : 0);
+        JW_LIT(w, "}");
     }
-    fputs("\n  ]", fp);
+    close_array(w, c->ncorners);
 }
 
-static void baseline(const ReportCtx *c, FILE *fp)
+static void baseline(const ReportCtx *c, JW *w)
 {
     const BlCompare *b = c->baseline;
     const Joined *j = c->corners[0].joined;
-    fputs(",\n  \"baseline\": {", fp);
-    key(fp, "file", 1);
-    rep_json_str(fp, b->path);
-    kv_uint(fp, "new", b->nnew);
-    kv_uint(fp, "new_failing", b->nnew_failing);
-    kv_uint(fp, "unchanged", b->nunchanged);
-    kv_uint(fp, "resolved", b->nresolved);
-    kv_uint(fp, "devices_not_in_baseline", b->ndevices_unmatched);
-    fputs(", \"resolved_findings\": [", fp);
+    JW_LIT(w, ",\n  \"baseline\":{\"file\":");
+    jw_str(w, b->path);
+    kv_uint(w, "new", b->nnew);
+    kv_uint(w, "new_failing", b->nnew_failing);
+    kv_uint(w, "unchanged", b->nunchanged);
+    kv_uint(w, "resolved", b->nresolved);
+    kv_uint(w, "devices_not_in_baseline", b->ndevices_unmatched);
+    JW_LIT(w, ",\"resolved_findings\":[");
     for (size_t i = 0; i < b->nresolved; i++) {
         const BlOldFinding *o = &b->resolved[i];
-        fputs(i ? ",\n    {" : "\n    {", fp);
-        key(fp, "device", 1);
-        rep_json_str(fp, o->device);
+        item(w, i);
+        JW_LIT(w, "\"device\":");
+        jw_str(w, o->device);
         /* the baseline's rule origin is kept as written there */
-        finding_core(fp, o->check, o->sev, o->value, o->limit, o->message, o->file, o->line, (RuleOrigin){NULL, 0});
-        kv_str(fp, "corner", o->corner);
-        kv_str(fp, "status", "resolved");
-        kv_str(fp, "was_rule", o->rule);
-        fputc('}', fp);
+        finding_core(w, o->check, o->sev, o->value, o->limit, o->message, o->file, o->line, (RuleOrigin){NULL, 0});
+        kv_str(w, "corner", o->corner);
+        kv_str(w, "status", "resolved");
+        kv_str(w, "was_rule", o->rule);
+        JW_LIT(w, "}");
     }
-    fputs(b->nresolved ? "\n  ], \"region_changes\": [" : "], \"region_changes\": [", fp);
+    close_array(w, b->nresolved);
+    JW_LIT(w, ",\"region_changes\":[");
     for (size_t i = 0; i < b->nregions; i++) {
         const BlRegionChange *rg = &b->regions[i];
         const Row *r = rg->row < j->n ? &c->corners[rg->corner].joined->rows[rg->row] : NULL;
-        fputs(i ? ",\n    {" : "\n    {", fp);
-        key(fp, "device", 1);
-        rep_json_str(fp, r ? r->dev->name : NULL);
-        kv_str(fp, "corner", c->corners[rg->corner].label);
-        kv_str(fp, "was", rg->was);
-        kv_str(fp, "now", r ? fig_region_name[(unsigned)r->fig.region < REGION_COUNT && r->op ? r->fig.region : 0]
-                            : NULL);
-        fputc('}', fp);
+        item(w, i);
+        JW_LIT(w, "\"device\":");
+        jw_str(w, r ? r->dev->name : NULL);
+        kv_str(w, "corner", c->corners[rg->corner].label);
+        kv_str(w, "was", rg->was);
+        kv_str(w, "now", r ? fig_region_name[(unsigned)r->fig.region < REGION_COUNT && r->op ? r->fig.region : 0]
+                           : NULL);
+        JW_LIT(w, "}");
     }
-    fputs(b->nregions ? "\n  ]}" : "]}", fp);
+    close_array(w, b->nregions);
+    JW_LIT(w, "}");
 }
 
 static int write_json(const ReportCtx *c, FILE *fp)
@@ -333,88 +448,96 @@ static int write_json(const ReportCtx *c, FILE *fp)
         return ERR_INPUT;
     const RepPrep *p = c->prep;
     const Joined *j0 = c->corners[0].joined;
-    flockfile(fp); /* held for the whole report: each of its many stdio calls then skips the lock */
-    fputs("{\n  ", fp);
-    key(fp, "tool", 1);
-    rep_json_str(fp, "biaslint");
-    kv_str(fp, "version", BIASLINT_VERSION);
-    kv_uint(fp, "schema", JSON_SCHEMA);
-    fputs(",\n  ", fp);
-    key(fp, "netlist", 1);
-    rep_json_str(fp, c->netlist_path);
-    kv_str(fp, "op", c->corners[0].op_path);
-    kv_str(fp, "op_format", format_word(c->corners[0].op));
-    kv_num(fp, "temp_c", c->design ? c->design->temp_c : NAN);
-    corners(c, fp);
-    fputs(",\n  \"devices\": [", fp);
+    JW jw = {fp, NULL, 0, 0, 0}, *w = &jw;
+    JW_LIT(w, "{\n  \"tool\":\"biaslint\"");
+    kv_str(w, "version", BIASLINT_VERSION);
+    kv_uint(w, "schema", REP_JSON_SCHEMA);
+    JW_LIT(w, ",\n  \"netlist\":");
+    jw_str(w, c->netlist_path);
+    jw_key(w, "op"); /* the top level keeps its keys, null or not */
+    jw_str(w, c->corners[0].op_path);
+    jw_key(w, "op_format");
+    jw_str(w, format_word(c->corners[0].op));
+    jw_key(w, "temp_c");
+    jw_num(w, c->design ? c->design->temp_c : NAN);
+    corners(c, w);
+    JW_LIT(w, ",\n  \"devices\":[");
     for (size_t i = 0; i < j0->n; i++) {
-        fputs(i ? ",\n" : "\n", fp);
-        device(c, fp, i);
+        if (i)
+            JW_LIT(w, ",\n");
+        else
+            JW_LIT(w, "\n");
+        device(c, w, i);
     }
-    fputs(j0->n ? "\n  ],\n  \"findings\": [" : "],\n  \"findings\": [", fp);
+    close_array(w, j0->n);
+    JW_LIT(w, ",\n  \"findings\":[");
     size_t nf = 0;
     for (size_t gi = 0; gi < p->ngroups; gi++) {
         const RepGroup *g = &p->groups[gi];
         for (size_t q = g->first; q < g->first + g->n; q++) {
-            fputs(nf++ ? ",\n" : "\n", fp);
-            finding(c, fp, g, p->refs[q]);
+            if (nf++)
+                JW_LIT(w, ",\n");
+            else
+                JW_LIT(w, "\n");
+            finding(c, w, g, p->refs[q]);
         }
     }
-    fputs(nf ? "\n  ],\n  \"orphan_records\": [" : "],\n  \"orphan_records\": [", fp);
+    close_array(w, nf);
+    JW_LIT(w, ",\n  \"orphan_records\":[");
     size_t no = 0, count[SEV_COUNT], matched = 0, without = 0, orphans = 0;
     rep_counts(c, count);
     for (size_t k = 0; k < c->ncorners; k++) {
         const RepCorner *rc = &c->corners[k];
         for (size_t i = 0; i < rc->joined->norphans; i++) {
             const OpRecord *r = rc->joined->orphans[i];
-            fputs(no++ ? ",\n    {" : "\n    {", fp);
-            key(fp, "name", 1);
-            rep_json_str(fp, r->name);
-            kv_str(fp, "file", r->loc.file);
-            kv_line(fp, "line", r->loc.line);
-            kv_str(fp, "corner", rc->label);
-            fputc('}', fp);
+            item(w, no++);
+            JW_LIT(w, "\"name\":");
+            jw_str(w, r->name);
+            kv_str(w, "file", r->loc.file);
+            kv_line(w, "line", r->loc.line);
+            kv_str(w, "corner", rc->label);
+            JW_LIT(w, "}");
         }
         matched += rc->joined->nmatched;
         without += without_data(rc->joined);
         orphans += rc->joined->norphans;
     }
-    fputs(no ? "\n  ],\n  \"loose_findings\": [" : "],\n  \"loose_findings\": [", fp);
+    close_array(w, no);
+    JW_LIT(w, ",\n  \"loose_findings\":[");
     size_t nloose;
     const Finding *loose = rep_loose(c, &nloose);
     for (size_t i = 0; i < nloose; i++) {
         const Finding *f = &loose[i];
-        fputs(i ? ",\n    {" : "\n    {", fp);
-        key(fp, "device", 1);
-        fputs("null", fp);
-        finding_core(fp, rep_check_name((int)f->check), f->sev, f->value, f->limit, f->message, f->loc.file,
+        item(w, i);
+        JW_LIT(w, "\"device\":null");
+        finding_core(w, rep_check_name((int)f->check), f->sev, f->value, f->limit, f->message, f->loc.file,
                      f->loc.line, f->rule);
-        intent_keys(fp, f);
-        fputc('}', fp);
+        intent_keys(w, f);
+        JW_LIT(w, "}");
     }
-    fputs(nloose ? "\n  ]" : "]", fp);
+    close_array(w, nloose);
     if (c->baseline)
-        baseline(c, fp);
-    fputs(",\n  \"summary\": {", fp);
+        baseline(c, w);
     Severity fl = (unsigned)c->fail_level < SEV_COUNT ? c->fail_level : SEV_ERROR;
     size_t failing = rep_failing(c);
-    key(fp, "devices", 1);
-    fprintf(fp, "%zu", j0->n);
-    kv_uint(fp, "corners", c->ncorners);
-    kv_uint(fp, "errors", count[SEV_ERROR]);
-    kv_uint(fp, "warnings", count[SEV_WARNING]);
-    kv_uint(fp, "infos", count[SEV_INFO]);
-    kv_uint(fp, "waived", c->prep->nwaived);
-    kv_uint(fp, "matched", matched);
-    kv_uint(fp, "without_data", without);
-    kv_uint(fp, "orphans", orphans);
-    kv_str(fp, "fail_level", c->fail_new ? "new" : rule_severity_name[fl]);
-    kv_uint(fp, "failing", failing);
-    kv_bool(fp, "failed", failing > 0);
-    fputs("}\n}\n", fp);
-    int bad = fflush(fp) != 0 || ferror(fp);
-    funlockfile(fp);
-    return bad ? ERR_IO : ERR_OK;
+    JW_LIT(w, ",\n  \"summary\":{\"devices\":");
+    jw_uint(w, j0->n);
+    kv_uint(w, "corners", c->ncorners);
+    kv_uint(w, "errors", count[SEV_ERROR]);
+    kv_uint(w, "warnings", count[SEV_WARNING]);
+    kv_uint(w, "infos", count[SEV_INFO]);
+    kv_uint(w, "waived", c->prep->nwaived);
+    kv_uint(w, "matched", matched);
+    kv_uint(w, "without_data", without);
+    kv_uint(w, "orphans", orphans);
+    kv_str(w, "fail_level", c->fail_new ? "new" : rule_severity_name[fl]);
+    kv_uint(w, "failing", failing);
+    kv_bool(w, "failed", failing > 0);
+    JW_LIT(w, "}\n}\n");
+    int rc = jw_close(w);
+    if (rc == ERR_OK && fflush(fp) != 0)
+        rc = ERR_IO;
+    return rc;
 }
 
 const ReportWriter rep_json_writer = {"json", "json", write_json};

@@ -31,7 +31,7 @@ big big.raw
 [ "$(stat -c %s big.raw)" -gt 2147483648 ] && ok || bad "big.raw is not over 2 GiB"
 "$bin" check pair.cir --op big.raw --format json -o big.json 2>err.txt
 rc=$?
-[ $rc -le 1 ] && grep -q '"name": "x1.m1".*"has_data": true' big.json && ok || { bad "a 2.2 GB raw file: exit $rc"; cat err.txt; }
+[ $rc -le 1 ] && grep -q '"name":"x1.m1".*"has_data":true' big.json && ok || { bad "a 2.2 GB raw file: exit $rc"; cat err.txt; }
 vl=$(grep -n '^Values:' pair.raw | cut -d: -f1)
 sed -i "$((vl + 2))s/.*/\t1.5x-03/" pair.raw
 big bad.raw

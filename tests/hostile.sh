@@ -411,16 +411,16 @@ sed "${idl}s/3\.27837e-05/nan/" pair.log >nan.log
 "$bin" check pair.cir --op nan.log --format json -o nan.json 2>err.txt
 rc=$?
 [ $rc -le 1 ] && grep -Eq "nan.log:$idl:[0-9]+: warning: .*NaN or infinity, read as absent" err.txt && json_numbers_ok nan.json &&
-    grep -q '"name": "x1.m4".*"id": null' nan.json && ok || { bad "NaN in a show table"; cat err.txt; }
+    grep '"name":"x1.m4"' nan.json | grep -vq '"id":' && ok || { bad "NaN in a show table"; cat err.txt; }
 sed "${idl}s/ 3\.27837e-05/ 4.9e-324/" pair.log >denorm.log
 "$bin" check pair.cir --op denorm.log --format json -o denorm.json 2>err.txt
 rc=$?
-[ $rc -le 1 ] && json_numbers_ok denorm.json && grep -q '"name": "x1.m4".*"gm_id": null' denorm.json && ok ||
+[ $rc -le 1 ] && json_numbers_ok denorm.json && grep '"name":"x1.m4"' denorm.json | grep -vq '"gm_id":' && ok ||
     { bad "a denormal ID: exit $rc, or gm/ID not missing"; cat err.txt; }
 { echo "$csv_head"; echo "$csv_rows" | sed '1s/^x1.m1,3.278e-05,5.225e-04/x1.m1,1e-300,1e300/'; } >overflow.csv
 "$bin" check pair.cir --op overflow.csv --format json -o overflow.json 2>err.txt
 rc=$?
-[ $rc -le 1 ] && json_numbers_ok overflow.json && grep -q '"name": "x1.m1".*"gm_id": null' overflow.json && ok ||
+[ $rc -le 1 ] && json_numbers_ok overflow.json && grep '"name":"x1.m1"' overflow.json | grep -vq '"gm_id":' && ok ||
     { bad "gm/ID that overflows: exit $rc"; cat err.txt; }
 "$bin" check pair.cir --op overflow.csv >overflow.txt 2>&1
 ! grep -Eiw 'nan|inf' overflow.txt && ok || bad "the text report prints nan or inf"
@@ -436,7 +436,7 @@ patch "$(var_of gds)" '\001\000\000\000\000\000\000\000'  # the smallest denorma
 "$bin" check pair.cir --op pair_nan.raw --format json -o rawnan.json 2>err.txt
 rc=$?
 [ $rc -le 1 ] && grep -q 'warning: 2 values are NaN or infinite, read as absent' err.txt && json_numbers_ok rawnan.json &&
-    grep -q '"name": "x1.m1".*"id": null, "gm": null, "gds": 4.94065645841247e-324' rawnan.json && ok ||
+    grep -q '"name":"x1.m1".*"has_data":true,"gds":4.94065645841247e-324' rawnan.json && ok ||
     { bad "NaN, infinity and a denormal in a binary raw file: exit $rc"; cat err.txt; grep x1.m1 rawnan.json | head -1; }
 
 # -- the annotation round trip, through the command line, on every netlist of tests/ and

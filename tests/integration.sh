@@ -128,7 +128,7 @@ grep -q 'in 3 corners' rep/r.txt && ok || bad "the text report does not name thr
 "$bin" strip rep/ann.cir -o rep/stripped.cir && cmp -s pair.cir rep/stripped.cir && ok || bad "strip of a corner annotation"
 [ "$(wc -l <rep/r.csv)" -eq 16 ] && ok || bad "CSV: expected a header and 5 devices x 3 corners"
 if command -v python3 >/dev/null; then
-    python3 -c 'import json,sys; d=json.load(open("rep/r.json")); assert d["schema"]==2 and len(d["corners"])==3; assert all(len(x["corners"])==3 for x in d["devices"]); s=json.load(open("rep/r.sarif")); assert s["version"]=="2.1.0" and s["runs"][0]["tool"]["driver"]["name"]=="biaslint"' &&
+    python3 -c 'import json,sys; d=json.load(open("rep/r.json")); assert d["schema"]==3 and len(d["corners"])==3; assert all(len(x["corners"])==3 for x in d["devices"]); s=json.load(open("rep/r.sarif")); assert s["version"]=="2.1.0" and s["runs"][0]["tool"]["driver"]["name"]=="biaslint"' &&
         ok || bad "JSON or SARIF do not read back"
 fi
 if command -v xmllint >/dev/null; then

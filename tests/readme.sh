@@ -61,8 +61,8 @@ marks() { # file, pattern, count at least
 }
 marks "$tb/r.txt" '  table  ' 34
 marks "$tb/r.txt" '^Figures from lookup tables' 1
-marks "$tb/r.json" '"source": "table", "table": "[^"]*pcore.lut"' 12
-marks "$tb/r.json" '"name": "xpga.mi1".*"suggest_w": 2\.0[0-9]*e-05' 1
+marks "$tb/r.json" '"source":"table","table":"[^"]*pcore.lut"' 12
+marks "$tb/r.json" '"name":"xpga.mi1".*"suggest_w":2\.0[0-9]*e-05' 1
 marks "$tb/r.csv" '"table","[^"]*ncore.lut",' 10
 marks "$tb/r.html" '>table</td>' 34
 marks "$tb/r.sarif" '"figureSource": "table"' 1

@@ -90,8 +90,8 @@ static void test_hundred_runs(void **state)
         s.recs[0][0].q[OPQ_VDS] = 0.14 + 0.3 * uniform(&seed);
         s.recs[0][1].q[OPQ_GM] = r % 3 == 0 ? 7e-4 : 4e-4;
         rescan(&s);
-        t.gm_id[r] = s.rows[0][0].fig.gm_id;
-        t.margin[r] = s.rows[0][0].fig.margin;
+        t.gm_id[r] = tu_six(s.rows[0][0].fig.gm_id);
+        t.margin[r] = tu_six(s.rows[0][0].fig.margin);
         t.margin_fails[r] = has_finding(&s, 0, "x1.m1", CHECK_MARGIN);
         t.region[r] = s.rows[0][1].fig.region;
         char name[32];

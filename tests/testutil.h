@@ -91,6 +91,14 @@ static inline void tu_line_col(const char *text, const char *p, uint32_t *line, 
 }
 
 /* 1 when ngspice is on PATH (integration tests skip without it). */
+/* A figure as the JSON report writes it (schema 3): six significant digits, as printf's %.6g. */
+static inline double tu_six(double v)
+{
+    char b[32];
+    snprintf(b, sizeof b, "%.6g", v);
+    return strtod(b, NULL);
+}
+
 static inline int tu_have_ngspice(void)
 {
     return system("command -v ngspice >/dev/null 2>&1") == 0;
