@@ -18,6 +18,7 @@
 #include <stdlib.h>
 #include <string.h>
 
+#include "asyncw.h"
 #include "diag.h"
 #include "numfmt.h"
 
@@ -27,10 +28,12 @@
 #define JW_FLUSH ((size_t)1 << 18) /* bytes kept before a write to the file */
 
 typedef struct {
-    FILE *fp;   /* where full buffers go; NULL: everything stays in the buffer (a chunk of devices) */
+    FILE *fp;   /* where full buffers go; NULL: everything stays in the buffer */
+    AsyncW *aw; /* the thread that writes them, or NULL: written here */
     char *p;
     size_t n, cap;
     int bad;    /* out of memory or a write failed: the rest is dropped, the report fails */
+    int io;     /* it was a write */
 } JW;
 
 /* Make room for k more bytes: writes out what waits, or grows. 0 when it cannot. */
@@ -39,8 +42,11 @@ static int jw_make_room(JW *w, size_t k)
     if (w->bad)
         return 0;
     if (w->fp && w->n && w->n + k > w->cap) {
-        if (fwrite(w->p, 1, w->n, w->fp) != w->n)
-            return w->bad = 1, 0;
+        if (w->aw) {
+            w->p = aw_swap(w->aw, w->p, w->n, &w->cap);
+        } else if (fwrite(w->p, 1, w->n, w->fp) != w->n) {
+            return w->io = w->bad = 1, 0;
+        }
         w->n = 0;
     }
     if (w->n + k <= w->cap)
@@ -77,12 +83,21 @@ static void jw_raw(JW *w, const char *s, size_t n)
 /* Out to the file (a writer with a file), and the buffer freed. ERR_OK, ERR_NOMEM or ERR_IO. */
 static int jw_close(JW *w)
 {
-    if (w->fp && !w->bad && w->n && fwrite(w->p, 1, w->n, w->fp) != w->n)
-        w->bad = 1;
+    int io = w->io;
+    if (w->aw) {
+        if (!w->bad && w->n) {
+            w->p = aw_swap(w->aw, w->p, w->n, &w->cap);
+            w->n = 0;
+        }
+        io |= aw_finish(w->aw) != ERR_OK;
+        w->aw = NULL;
+    } else if (w->fp && !w->bad && w->n && fwrite(w->p, 1, w->n, w->fp) != w->n) {
+        io = 1;
+    }
     free(w->p);
     w->p = NULL;
     w->n = w->cap = 0;
-    return w->bad ? (w->fp ? ERR_IO : ERR_NOMEM) : ERR_OK;
+    return io ? ERR_IO : w->bad ? ERR_NOMEM : ERR_OK;
 }
 
 /* A string in quotes, escaped; null for NULL. */
@@ -448,7 +463,8 @@ static int write_json(const ReportCtx *c, FILE *fp)
         return ERR_INPUT;
     const RepPrep *p = c->prep;
     const Joined *j0 = c->corners[0].joined;
-    JW jw = {fp, NULL, 0, 0, 0}, *w = &jw;
+    /* a thread of its own writes the file while the next piece is formatted */
+    JW jw = {fp, aw_start(fp), NULL, 0, 0, 0, 0}, *w = &jw;
     JW_LIT(w, "{\n  \"tool\":\"biaslint\"");
     kv_str(w, "version", BIASLINT_VERSION);
     kv_uint(w, "schema", REP_JSON_SCHEMA);
