@@ -8,6 +8,7 @@
 #include <stdlib.h>
 #include <string.h>
 #include <stdio.h>
+#include <sys/resource.h>
 #include <time.h>
 
 #include "annotate.h"
@@ -46,7 +47,10 @@ static void stage(Stages *s, const char *name)
         return;
     struct timespec t;
     clock_gettime(CLOCK_MONOTONIC, &t);
-    fprintf(stderr, "stage %-10s %8.3f s\n", name, (double)(t.tv_sec - s->t0.tv_sec) + (double)(t.tv_nsec - s->t0.tv_nsec) * 1e-9);
+    struct rusage ru;
+    getrusage(RUSAGE_SELF, &ru);
+    fprintf(stderr, "stage %-10s %8.3f s  peak RSS %6.0f MB\n", name,
+            (double)(t.tv_sec - s->t0.tv_sec) + (double)(t.tv_nsec - s->t0.tv_nsec) * 1e-9, (double)ru.ru_maxrss / 1024);
     s->t0 = t;
 }
 
