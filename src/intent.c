@@ -24,6 +24,7 @@ typedef struct {
     IntentSet *out;
     DiagList *d;
     uint32_t *canon; /* per file index: the first index that holds the same file */
+    unsigned char *colon; /* per file index: the file has a ':' somewhere (every marker ends in one) */
     Taken *taken;
     size_t ntaken, taken_cap;
     int bad;
@@ -179,7 +180,7 @@ static void scan_card(Scan *s, uint32_t ci)
     const SrcFile *f = s->ds->files.files[c->file];
     const char *t = f->text;
     size_t len = f->len;
-    if (c->start > len || c->end > len)
+    if (c->start > len || c->end > len || !s->colon[c->file])
         return;
     /* walk up: collect the block of comment lines above */
     size_t top = c->start, nabove = 0;
@@ -241,9 +242,15 @@ static void strays(Scan *s)
         const char *t = f->text;
         size_t len = f->len;
         uint32_t lineno = 1;
-        for (size_t off = 0; off < len; lineno++) {
-            size_t ls, le;
-            line_bounds(t, len, off, &ls, &le);
+        for (size_t off = 0; off < len && s->colon[fi]; lineno++) {
+            const char *nl = memchr(t + off, '\n', len - off);
+            size_t ls = off, le = nl ? (size_t)(nl - t) : len;
+            if (!memchr(t + ls, ':', le - ls)) { /* no marker on a line without a ':' */
+                off = le + 1;
+                continue;
+            }
+            if (le > ls && t[le - 1] == '\r')
+                le--;
             size_t c = is_comment_line(t, ls, le) ? first_text(t, ls, le) : inline_comment(t, ls, le);
             size_t mark, body;
             int kind = c < le && !is_annotation(t, ls, le) ? marker(t, c, le, &mark, &body) : -1;
@@ -268,11 +275,12 @@ int intent_scan(const Design *ds, IntentSet *out, DiagList *d)
 {
     memset(out, 0, sizeof *out);
     arena_init(&out->arena);
-    Scan s = {ds, out, d, NULL, NULL, 0, 0, 0, 0};
+    Scan s = {ds, out, d, NULL, NULL, NULL, 0, 0, 0, 0};
     unsigned char *mos = calloc(ds->ncards ? ds->ncards : 1, 1);
     out->start = calloc(ds->ncards + 1, sizeof *out->start);
     s.canon = malloc((ds->files.n ? ds->files.n : 1) * sizeof *s.canon);
-    if (!mos || !out->start || !s.canon) {
+    s.colon = malloc(ds->files.n ? ds->files.n : 1);
+    if (!mos || !out->start || !s.canon || !s.colon) {
         s.oom = 1;
         goto done;
     }
@@ -284,6 +292,7 @@ int intent_scan(const Design *ds, IntentSet *out, DiagList *d)
     for (uint32_t i = 0; i < ds->files.n; i++) {
         s.canon[i] = i;
         const SrcFile *f = ds->files.files[i];
+        s.colon[i] = f->text && memchr(f->text, ':', f->len) != NULL;
         for (uint32_t k = 0; k < i; k++) {
             const SrcFile *g = ds->files.files[k];
             if ((f->ino && f->dev == g->dev && f->ino == g->ino) || (!f->ino && strcmp(f->path, g->path) == 0)) {
@@ -303,6 +312,7 @@ int intent_scan(const Design *ds, IntentSet *out, DiagList *d)
 done:
     free(mos);
     free(s.canon);
+    free(s.colon);
     free(s.taken);
     if (s.oom) {
         intent_free(out);
