@@ -297,26 +297,17 @@ static void origin(JW *w, const char *k, RuleOrigin o)
 {
     if (!o.file)
         return;
-    char b[NUMFMT_SIZE];
-    size_t n = 0;
-    if (o.line) {
-        b[n++] = ':';
-        char t[12];
-        size_t m = sizeof t;
-        for (uint32_t x = o.line; x; x /= 10)
-            t[--m] = (char)('0' + x % 10);
-        memcpy(b + n, t + m, sizeof t - m);
-        n += sizeof t - m;
-    }
     size_t fn = strlen(o.file);
     jw_key(w, k);
-    if (jw_room(w, fn * REP_JSON_ESC_MAX + n + 2)) {
-        w->p[w->n++] = '"';
-        w->n += rep_json_escape(w->p + w->n, o.file, fn);
-        memcpy(w->p + w->n, b, n);
-        w->n += n;
-        w->p[w->n++] = '"';
+    if (!jw_room(w, fn * REP_JSON_ESC_MAX + 1))
+        return;
+    w->p[w->n++] = '"';
+    w->n += rep_json_escape(w->p + w->n, o.file, fn);
+    if (o.line) {
+        JW_LIT(w, ":");
+        jw_uint(w, o.line);
     }
+    JW_LIT(w, "\"");
 }
 
 /* The keys of intents, matched groups and waivers (left out when they do not apply). */

@@ -27,8 +27,8 @@
 #include "rules.h"
 #include "source.h"
 
-/* BIASLINT_STAGES=1 in the environment: the wall time of each stage on standard error (for
- * profiling; tests/bench/bench.sh shows it with BENCH_STAGES=1). */
+/* BIASLINT_STAGES=1 in the environment: the wall time of each stage of check and the peak RSS
+ * after it, on standard error (for profiling large designs; DEVELOPERS.md). */
 typedef struct {
     int on;
     struct timespec t0;
