@@ -23,6 +23,11 @@ const char *str_lookup(const StrTab *t, const char *s, size_t n);
 
 size_t str_count(const StrTab *t);
 
+/* A lower-cased, NUL-terminated copy of s[0..n) in arena a, not interned: for names that are
+ * unique anyway (device and instance names), which would only crowd a table of millions of names
+ * and cost it a cache miss each. Compare them with strcmp. NULL when memory ran out. */
+const char *str_copy(Arena *a, const char *s, size_t n);
+
 /* FNV-1a over the lower-cased bytes: the hash every name table in biaslint uses. */
 uint64_t str_hash(const char *s, size_t n);
 

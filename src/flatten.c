@@ -543,15 +543,21 @@ static int path_room(Flat *f, size_t need)
     return buf_grow_array((void **)&f->path, &f->cappath, need, 1);
 }
 
-/* The interned name "<path of frame fi>.<local>"; the path buffer must hold fi's path. */
-static const char *qualify(Flat *f, uint32_t fi, const char *local)
+/* The name "<path of frame fi>.<local>", interned (a net) or only copied (own: a device's name,
+ * unique anyway; strtab.h); the path buffer must hold fi's path. */
+static const char *qualify_as(Flat *f, uint32_t fi, const char *local, int own)
 {
     size_t pl = f->fr[fi].plen, ll = strlen(local);
     if (path_room(f, pl + ll + 2) != ERR_OK)
         return NULL;
     f->path[pl] = '.';
     memcpy(f->path + pl + 1, local, ll);
-    return str_intern(f->ds->names, f->path, pl + 1 + ll);
+    return own ? str_copy(&f->ds->arena, f->path, pl + 1 + ll) : str_intern(f->ds->names, f->path, pl + 1 + ll);
+}
+
+static const char *qualify(Flat *f, uint32_t fi, const char *local)
+{
+    return qualify_as(f, fi, local, 0);
 }
 
 /* The hierarchical name of node k of frame fi: top-level and global nets as written, the others
@@ -749,7 +755,7 @@ static int as_primitive(Flat *f, uint32_t fi, Device *dv)
     const Frame *fr = &f->fr[fi];
     const NlSubckt *def = fr->def;
     dv->simname = dv->name;
-    if (!(dv->name = str_intern(f->ds->names, f->path, fr->plen)))
+    if (!(dv->name = str_copy(&f->ds->arena, f->path, fr->plen)))
         return ERR_NOMEM;
     dv->card = fr->x->card;
     dv->cell = f->fr[fr->parent].def->name;
@@ -769,7 +775,7 @@ static int emit_bare(Flat *f, uint32_t fi, NlInst *x)
     if (ds->ndevs >= f->capdevs)
         return ERR_OK; /* not reached: the count was made beforehand */
     Device *dv = &ds->devs[ds->ndevs++];
-    dv->name = f->fr[fi].plen ? qualify(f, fi, x->name) : x->name;
+    dv->name = f->fr[fi].plen ? qualify_as(f, fi, x->name, 1) : x->name;
     if (!dv->name)
         return ERR_NOMEM;
     for (int k = 0; k < 4; k++)
@@ -861,7 +867,7 @@ static int emit(Flat *f, uint32_t fi)
             return ERR_OK; /* not reached: the count was made beforehand */
         Device *dv = &ds->devs[ds->ndevs++];
         const Card *card = &ds->cards[mm->card];
-        dv->name = f->fr[fi].plen ? qualify(f, fi, mm->name) : mm->name;
+        dv->name = f->fr[fi].plen ? qualify_as(f, fi, mm->name, 1) : mm->name;
         if (!dv->name)
             return ERR_NOMEM;
         dv->model = mm->model;

@@ -133,9 +133,10 @@ static int nomem(Parser *ps)
     return diag_nomem(ps->nl->d);
 }
 
-static const char *intern_nocache(Parser *ps, const char *text, LexTok t)
+/* An element's own name (M1, X3, R7): unique, so copied rather than interned (strtab.h). */
+static const char *own_name(Parser *ps, const char *text, LexTok t)
 {
-    const char *s = str_intern(ps->nl->ds->names, text + t.off, t.len);
+    const char *s = str_copy(&ps->nl->ds->arena, text + t.off, t.len);
     if (!s)
         nomem(ps);
     return s;
@@ -555,8 +556,7 @@ static int card_mos(Parser *ps, uint32_t file, const LexLine *ln, size_t anchor)
     memset(&m, 0, sizeof m);
     m.fam = NL_NONE;
     m.w.v = m.l.v = m.m.v = m.nf.v = NAN;
-    /* instance names are mostly unique: they would only push the repeating names out of the cache */
-    if (!(m.name = intern_nocache(ps, text, name)) || add_card(ps, file, ln, anchor, &m.card) != ERR_OK)
+    if (!(m.name = own_name(ps, text, name)) || add_card(ps, file, ln, anchor, &m.card) != ERR_OK)
         return ERR_NOMEM;
     int rc, bad = 0;
     unsigned nbare = 0;
@@ -661,7 +661,7 @@ static int card_inst(Parser *ps, uint32_t file, const LexLine *ln, size_t anchor
     x.m.v = NAN;
     x.file = file;
     x.off = ln->body;
-    if (!(x.name = intern_nocache(ps, text, name)) || add_card(ps, file, ln, anchor, &x.card) != ERR_OK)
+    if (!(x.name = own_name(ps, text, name)) || add_card(ps, file, ln, anchor, &x.card) != ERR_OK)
         return ERR_NOMEM;
     int rc, bad = 0;
     /* the bare words: nodes, then the subcircuit name */
@@ -1201,7 +1201,7 @@ static int card_element(Parser *ps, uint32_t file, const LexLine *ln)
     lex_cur_init(&c, text, ln);
     LexTok name;
     lex_word(&c, &name, 0);
-    NlOther o = {intern_nocache(ps, text, name), file, ln->body};
+    NlOther o = {own_name(ps, text, name), file, ln->body};
     if (!o.name)
         return ERR_NOMEM;
     if (BUF_PUSH(s->other, s->nother, s->capother, o) != ERR_OK)
@@ -1390,14 +1390,13 @@ static int read_range(Parser *ps, uint32_t file, size_t start, size_t end, uint3
 /* ---- instance names used twice ---------------------------------------------------------------- */
 
 typedef struct {
-    uintptr_t key; /* the interned name's address */
+    uintptr_t key; /* the name's hash (instance names are copied, not interned: strtab.h) */
     uint32_t idx;  /* card order */
 } NameRef;
 
-/* Sort by key, stably: insertion sort for a handful, else LSD radix sort on the part of the
- * addresses that differs (interned names live close together in the arena), with digits as wide as
- * log2(n) (8 to 16 bits), so that a pass costs O(n) and a small subcircuit no small fortune in
- * counters. Linear, unlike a comparison sort. */
+/* Sort by key, stably: insertion sort for a handful, else LSD radix sort on the part of the keys
+ * that differs, with digits as wide as log2(n) (8 to 16 bits), so that a pass costs O(n) and a
+ * small subcircuit no small fortune in counters. Linear, unlike a comparison sort. */
 static int radix_sort(NameRef *a, size_t n)
 {
     if (n < 32) {
@@ -1473,18 +1472,27 @@ static int check_duplicates(Parser *ps)
             NameRef *a = malloc(n * sizeof *a);
             if (!a)
                 return nomem(ps);
-            for (size_t i = 0; i < n; i++)
-                a[i] = (NameRef){(uintptr_t)(kind == 0 ? s->mos[i].name : s->inst[i].name), (uint32_t)i};
+#define NAME_OF(r) (kind == 0 ? s->mos[(r).idx].name : s->inst[(r).idx].name)
+            for (size_t i = 0; i < n; i++) {
+                const char *nm = kind == 0 ? s->mos[i].name : s->inst[i].name;
+                a[i] = (NameRef){(uintptr_t)str_hash(nm, strlen(nm)), (uint32_t)i};
+            }
             if (radix_sort(a, n) != ERR_OK) {
                 free(a);
                 return nomem(ps);
             }
-            for (size_t i = 1, first = 0; i < n; i++) {
-                if (a[i].key != a[first].key) {
-                    first = i;
+            for (size_t i = 1, run = 0; i < n; i++) {
+                if (a[i].key != a[run].key) {
+                    run = i;
                     continue;
                 }
-                const char *name = (const char *)a[i].key;
+                /* the first card of the run with this very name (two names may share a hash) */
+                const char *name = NAME_OF(a[i]);
+                size_t first = run;
+                while (first < i && strcmp(NAME_OF(a[first]), name) != 0)
+                    first++;
+                if (first == i)
+                    continue;
                 uint32_t file, line;
                 size_t off;
                 if (kind == 0) {
@@ -1501,6 +1509,7 @@ static int check_duplicates(Parser *ps)
                 nl_error(nl, file, off, span_of(strlen(name)), "instance name '%s' is used twice (first on line %u)%s%s",
                          name, line, s->name ? " in subcircuit " : "", s->name ? s->name : "");
             }
+#undef NAME_OF
             free(a);
         }
     }

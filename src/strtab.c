@@ -98,6 +98,17 @@ static int grow(StrTab *t)
     return ERR_OK;
 }
 
+const char *str_copy(Arena *a, const char *s, size_t n)
+{
+    char *p = arena_alloc(a, n + 1);
+    if (!p)
+        return NULL;
+    for (size_t k = 0; k < n; k++)
+        p[k] = (char)fold((unsigned char)s[k]);
+    p[n] = '\0';
+    return p;
+}
+
 const char *str_lookup(const StrTab *t, const char *s, size_t n)
 {
     if (!t->cap)
@@ -113,12 +124,9 @@ const char *str_intern(StrTab *t, const char *s, size_t n)
     size_t i = probe(t, s, n, h);
     if (t->slots[i].s)
         return t->slots[i].s;
-    char *p = arena_alloc(t->arena, n + 1);
+    const char *p = str_copy(t->arena, s, n);
     if (!p)
         return NULL;
-    for (size_t k = 0; k < n; k++)
-        p[k] = (char)fold((unsigned char)s[k]);
-    p[n] = '\0';
     t->slots[i] = (Slot){p, (uint32_t)h, (uint32_t)n};
     t->n++;
     return p;
