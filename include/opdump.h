@@ -120,5 +120,8 @@ void op_canonical(const char *s, size_t n, const char **cs, size_t *cn);
 
 /* The record for a canonical name, or NULL. */
 const OpRecord *op_find(const OpTable *t, const char *name);
+/* out[i] = op_find(t, names[i]) for i < n (a name may be NULL: no record), the lookups' cache misses
+ * overlapped: on a table of a million records this is several times faster than one at a time. */
+void op_find_all(const OpTable *t, const char *const *names, size_t n, const OpRecord **out);
 
 #endif

@@ -31,6 +31,12 @@ const char *str_copy(Arena *a, const char *s, size_t n);
 /* FNV-1a over the lower-cased bytes: the hash every name table in biaslint uses. */
 uint64_t str_hash(const char *s, size_t n);
 
+/* For lookups in bulk: ask the memory for the slot of hash h ahead of str_lookup_hashed, so that
+ * the cache misses of many lookups overlap instead of following one another. */
+void str_prefetch(const StrTab *t, uint64_t h);
+/* str_lookup with the hash of s[0..n) already computed. */
+const char *str_lookup_hashed(const StrTab *t, const char *s, size_t n, uint64_t h);
+
 /* StrMap: interned name -> uint32 value, open addressing, keyed by pointer. A key and its value share
  * one slot, so a lookup in a map of millions of names is one cache miss. */
 typedef struct {
@@ -50,6 +56,8 @@ typedef struct {
 int strmap_put(StrMap *m, const char *key, uint32_t val) MUST_CHECK;
 /* 1 and *val set when key is present, else 0. */
 int strmap_get(const StrMap *m, const char *key, uint32_t *val);
+/* Ask the memory for key's slot ahead of strmap_get (bulk lookups). */
+void strmap_prefetch(const StrMap *m, const char *key);
 void strmap_free(StrMap *m);
 
 #endif

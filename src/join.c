@@ -133,8 +133,15 @@ int join_run_tables(const Design *ds, const OpTable *t, const RuleSet *rs, const
     out->rows = calloc(ds->ndevs ? ds->ndevs : 1, sizeof *out->rows);
     if (!by_dev || !used || !out->rows)
         goto nomem;
-    for (size_t i = 0; i < ds->ndevs; i++)
-        by_dev[i] = op_find(t, rec_name(&ds->devs[i]));
+    {
+        const char **names = malloc((ds->ndevs ? ds->ndevs : 1) * sizeof *names);
+        if (!names)
+            goto nomem;
+        for (size_t i = 0; i < ds->ndevs; i++)
+            names[i] = rec_name(&ds->devs[i]);
+        op_find_all(t, names, ds->ndevs, by_dev);
+        free(names);
+    }
     int rc = match_truncated(ds, t, by_dev, d);
     if (rc != ERR_OK)
         goto fail;

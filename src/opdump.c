@@ -301,6 +301,39 @@ const OpRecord *op_find(const OpTable *t, const char *name)
     return &t->recs[idx];
 }
 
+void op_find_all(const OpTable *t, const char *const *names, size_t n, const OpRecord **out)
+{
+    if (!t) {
+        for (size_t i = 0; i < n; i++)
+            out[i] = NULL;
+        return;
+    }
+    /* three stages DIST apart: hash the name and prefetch its slot; look it up (the slot is there
+       now) and prefetch the index slot of the interned name; read the index. The rings hold 4 DIST
+       entries, so no stage overwrites what a later one has yet to read. */
+    enum { DIST = 8, RING = 4 * DIST };
+    uint64_t h[RING];
+    const char *iname[RING];
+    for (size_t i = 0; i < n + 2 * DIST; i++) {
+        if (i >= 2 * DIST) {
+            size_t k = i - 2 * DIST;
+            uint32_t idx;
+            const char *nm = iname[k % RING];
+            out[k] = nm && strmap_get(&t->index, nm, &idx) ? &t->recs[idx] : NULL;
+        }
+        if (i >= DIST && i - DIST < n) {
+            size_t k = i - DIST;
+            const char *nm = names[k] ? str_lookup_hashed(t->names, names[k], strlen(names[k]), h[k % RING]) : NULL;
+            iname[k % RING] = nm;
+            strmap_prefetch(&t->index, nm);
+        }
+        if (i < n && names[i]) {
+            h[i % RING] = str_hash(names[i], strlen(names[i]));
+            str_prefetch(t->names, h[i % RING]);
+        }
+    }
+}
+
 /* ---- reading ---- */
 
 static const OpReader *const readers[] = {&op_raw_reader, &op_csv_reader, &op_show_reader};

@@ -111,9 +111,25 @@ const char *str_copy(Arena *a, const char *s, size_t n)
 
 const char *str_lookup(const StrTab *t, const char *s, size_t n)
 {
+    return str_lookup_hashed(t, s, n, str_hash(s, n));
+}
+
+const char *str_lookup_hashed(const StrTab *t, const char *s, size_t n, uint64_t h)
+{
     if (!t->cap)
         return NULL;
-    return t->slots[probe(t, s, n, str_hash(s, n))].s;
+    return t->slots[probe(t, s, n, h)].s;
+}
+
+void str_prefetch(const StrTab *t, uint64_t h)
+{
+#if defined(__GNUC__)
+    if (t->cap)
+        __builtin_prefetch(&t->slots[(size_t)h & (t->cap - 1)]);
+#else
+    (void)t;
+    (void)h;
+#endif
 }
 
 const char *str_intern(StrTab *t, const char *s, size_t n)
@@ -192,6 +208,17 @@ int strmap_get(const StrMap *m, const char *key, uint32_t *val)
         i = (i + 1) & mask;
     }
     return 0;
+}
+
+void strmap_prefetch(const StrMap *m, const char *key)
+{
+#if defined(__GNUC__)
+    if (m->cap && key)
+        __builtin_prefetch(&m->slots[ptr_hash(key) & (m->cap - 1)]);
+#else
+    (void)m;
+    (void)key;
+#endif
 }
 
 void strmap_free(StrMap *m)
