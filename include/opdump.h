@@ -46,10 +46,9 @@ typedef struct {
     SrcFile file;           /* the dump, read whole; op_read releases its text once parsed (path stays) */
     OpFormat format;        /* the format actually read */
     Arena arena;
-    StrTab *names;
+    StrTab *names;          /* a record's name has its index in recs as its value (strtab.h) */
     OpRecord *recs;         /* malloc'd array */
     size_t n, cap;
-    StrMap index;           /* canonical name -> record index */
     /* Node voltages (raw files; show output where a node table is printed). Names canonical
        ("x1.tail", "out"), interned. */
     const char **node_name;

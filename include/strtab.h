@@ -18,6 +18,15 @@ void str_free(StrTab *t); /* frees the hash index; the strings stay in the arena
 /* The interned, lower-cased copy of s[0..n), NUL-terminated; NULL when memory ran out. */
 const char *str_intern(StrTab *t, const char *s, size_t n);
 
+/* Each name of a table has one uint32 value of the caller's (a record index, say), kept in its slot
+ * so that reading it costs no second lookup; STR_NOVAL until set. */
+#define STR_NOVAL UINT32_MAX
+/* str_intern, and *val pointed at the name's value (valid until the next str_intern on t). */
+const char *str_intern_val(StrTab *t, const char *s, size_t n, uint32_t **val);
+/* str_lookup with the hash of s[0..n) computed (str_hash) and the name's value in *val (STR_NOVAL
+ * when the name is not there or its value was never set); val may be NULL. */
+const char *str_lookup_val(const StrTab *t, const char *s, size_t n, uint64_t h, uint32_t *val);
+
 /* The interned copy if s[0..n) (case-folded) was interned before, else NULL. Allocates nothing. */
 const char *str_lookup(const StrTab *t, const char *s, size_t n);
 
@@ -56,8 +65,6 @@ typedef struct {
 int strmap_put(StrMap *m, const char *key, uint32_t val) MUST_CHECK;
 /* 1 and *val set when key is present, else 0. */
 int strmap_get(const StrMap *m, const char *key, uint32_t *val);
-/* Ask the memory for key's slot ahead of strmap_get (bulk lookups). */
-void strmap_prefetch(const StrMap *m, const char *key);
 void strmap_free(StrMap *m);
 
 #endif

@@ -220,31 +220,29 @@ int op_parse_number(const char *s, size_t n, double *v)
 
 OpRecord *op_add(OpTable *t, const char *name, size_t n, SrcLoc loc, bool merge, DiagList *d)
 {
-    size_t before = str_count(t->names);
-    const char *iname = str_intern(t->names, name, n);
+    /* the name's value in the table is its record's index: one probe finds both */
+    uint32_t *idx;
+    const char *iname = str_intern_val(t->names, name, n, &idx);
     if (!iname) {
         diag_nomem(d);
         return NULL;
     }
-    /* A name the table did not hold a moment ago has no record: skip the index lookup (it costs a
-       cache miss per device on a large dump). */
-    uint32_t idx;
-    if (str_count(t->names) == before && strmap_get(&t->index, iname, &idx)) {
+    if (*idx != STR_NOVAL) {
         if (merge)
-            return &t->recs[idx];
+            return &t->recs[*idx];
         diag_add(d, DIAG_ERROR, loc, "device '%s' is listed twice (first on line %u)", iname,
-                 t->recs[idx].loc.line);
+                 t->recs[*idx].loc.line);
         return NULL;
     }
-    if (t->n >= UINT32_MAX) {
-        diag_add(d, DIAG_ERROR, loc, "more than %u devices in one dump", (unsigned)UINT32_MAX);
+    if (t->n >= UINT32_MAX - 1) {
+        diag_add(d, DIAG_ERROR, loc, "more than %u devices in one dump", (unsigned)UINT32_MAX - 1);
         return NULL;
     }
-    if (buf_grow_array((void **)&t->recs, &t->cap, t->n + 1, sizeof *t->recs) != ERR_OK ||
-        strmap_put(&t->index, iname, (uint32_t)t->n) != ERR_OK) {
+    if (buf_grow_array((void **)&t->recs, &t->cap, t->n + 1, sizeof *t->recs) != ERR_OK) {
         diag_nomem(d);
         return NULL;
     }
+    *idx = (uint32_t)t->n;
     OpRecord *r = &t->recs[t->n++];
     r->name = iname;
     r->truncated = false;
@@ -294,11 +292,10 @@ const OpRecord *op_find(const OpTable *t, const char *name)
 {
     if (!t || !name)
         return NULL;
-    const char *iname = str_lookup(t->names, name, strlen(name));
+    size_t n = strlen(name);
     uint32_t idx;
-    if (!iname || !strmap_get(&t->index, iname, &idx))
-        return NULL;
-    return &t->recs[idx];
+    str_lookup_val(t->names, name, n, str_hash(name, n), &idx);
+    return idx != STR_NOVAL ? &t->recs[idx] : NULL;
 }
 
 void op_find_all(const OpTable *t, const char *const *names, size_t n, const OpRecord **out)
@@ -308,24 +305,18 @@ void op_find_all(const OpTable *t, const char *const *names, size_t n, const OpR
             out[i] = NULL;
         return;
     }
-    /* three stages DIST apart: hash the name and prefetch its slot; look it up (the slot is there
-       now) and prefetch the index slot of the interned name; read the index. The rings hold 4 DIST
-       entries, so no stage overwrites what a later one has yet to read. */
-    enum { DIST = 8, RING = 4 * DIST };
+    /* two stages DIST apart: hash the name and prefetch its slot; then look it up (the slot is
+       there now). The ring holds 2 DIST hashes, so the first stage never overwrites one the second
+       has yet to read. */
+    enum { DIST = 16, RING = 2 * DIST };
     uint64_t h[RING];
-    const char *iname[RING];
-    for (size_t i = 0; i < n + 2 * DIST; i++) {
-        if (i >= 2 * DIST) {
-            size_t k = i - 2 * DIST;
-            uint32_t idx;
-            const char *nm = iname[k % RING];
-            out[k] = nm && strmap_get(&t->index, nm, &idx) ? &t->recs[idx] : NULL;
-        }
-        if (i >= DIST && i - DIST < n) {
+    for (size_t i = 0; i < n + DIST; i++) {
+        if (i >= DIST) {
             size_t k = i - DIST;
-            const char *nm = names[k] ? str_lookup_hashed(t->names, names[k], strlen(names[k]), h[k % RING]) : NULL;
-            iname[k % RING] = nm;
-            strmap_prefetch(&t->index, nm);
+            uint32_t idx = STR_NOVAL;
+            if (names[k])
+                str_lookup_val(t->names, names[k], strlen(names[k]), h[k % RING], &idx);
+            out[k] = idx != STR_NOVAL ? &t->recs[idx] : NULL;
         }
         if (i < n && names[i]) {
             h[i % RING] = str_hash(names[i], strlen(names[i]));
@@ -451,7 +442,6 @@ void op_free(OpTable *t)
     str_free(t->names);
     arena_free(&t->arena);
     free(t->recs);
-    strmap_free(&t->index);
     free(t->node_name);
     free(t->node_v);
     free(t->extra_name);

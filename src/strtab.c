@@ -7,12 +7,13 @@
 
 #include "memhint.h"
 
-/* One slot: the string with its hash and length beside it, so that a probe touches one cache line
- * (a table of millions of names is far larger than the caches; every probe is a miss). */
+/* One slot: the string with its hash and its value beside it, so that a probe touches one cache line
+ * and a name's value costs no second lookup (a table of millions of names is far larger than the
+ * caches; every probe is a miss). */
 typedef struct {
     const char *s;       /* interned string, NULL when the slot is free */
     uint32_t hash;       /* low 32 bits of its hash, to skip most comparisons */
-    uint32_t len;        /* its length, truncated to 32 bits (the byte comparison decides) */
+    uint32_t val;        /* the caller's value for the name, STR_NOVAL until set */
 } Slot;
 
 struct StrTab {
@@ -69,9 +70,8 @@ static int same(const char *interned, const char *s, size_t n)
 static size_t probe(const StrTab *t, const char *s, size_t n, uint64_t h)
 {
     size_t mask = t->cap - 1, i = (size_t)h & mask;
-    uint32_t h32 = (uint32_t)h, n32 = (uint32_t)n;
-    while (t->slots[i].s &&
-           !(t->slots[i].hash == h32 && t->slots[i].len == n32 && same(t->slots[i].s, s, n)))
+    uint32_t h32 = (uint32_t)h;
+    while (t->slots[i].s && !(t->slots[i].hash == h32 && same(t->slots[i].s, s, n)))
         i = (i + 1) & mask;
     return i;
 }
@@ -116,9 +116,19 @@ const char *str_lookup(const StrTab *t, const char *s, size_t n)
 
 const char *str_lookup_hashed(const StrTab *t, const char *s, size_t n, uint64_t h)
 {
+    return str_lookup_val(t, s, n, h, NULL);
+}
+
+const char *str_lookup_val(const StrTab *t, const char *s, size_t n, uint64_t h, uint32_t *val)
+{
+    if (val)
+        *val = STR_NOVAL;
     if (!t->cap)
         return NULL;
-    return t->slots[probe(t, s, n, h)].s;
+    const Slot *sl = &t->slots[probe(t, s, n, h)];
+    if (val && sl->s)
+        *val = sl->val;
+    return sl->s;
 }
 
 void str_prefetch(const StrTab *t, uint64_t h)
@@ -134,18 +144,25 @@ void str_prefetch(const StrTab *t, uint64_t h)
 
 const char *str_intern(StrTab *t, const char *s, size_t n)
 {
+    return str_intern_val(t, s, n, NULL);
+}
+
+const char *str_intern_val(StrTab *t, const char *s, size_t n, uint32_t **val)
+{
     if ((t->n + 1) * 4 > t->cap * 3 && grow(t) != ERR_OK)
         return NULL;
     uint64_t h = str_hash(s, n);
     size_t i = probe(t, s, n, h);
-    if (t->slots[i].s)
-        return t->slots[i].s;
-    const char *p = str_copy(t->arena, s, n);
-    if (!p)
-        return NULL;
-    t->slots[i] = (Slot){p, (uint32_t)h, (uint32_t)n};
-    t->n++;
-    return p;
+    if (!t->slots[i].s) {
+        const char *p = str_copy(t->arena, s, n);
+        if (!p)
+            return NULL;
+        t->slots[i] = (Slot){p, (uint32_t)h, STR_NOVAL};
+        t->n++;
+    }
+    if (val)
+        *val = &t->slots[i].val;
+    return t->slots[i].s;
 }
 
 /* StrMap: keys are interned pointers, so hashing the address is enough. */
@@ -208,17 +225,6 @@ int strmap_get(const StrMap *m, const char *key, uint32_t *val)
         i = (i + 1) & mask;
     }
     return 0;
-}
-
-void strmap_prefetch(const StrMap *m, const char *key)
-{
-#if defined(__GNUC__)
-    if (m->cap && key)
-        __builtin_prefetch(&m->slots[ptr_hash(key) & (m->cap - 1)]);
-#else
-    (void)m;
-    (void)key;
-#endif
 }
 
 void strmap_free(StrMap *m)

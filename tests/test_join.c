@@ -34,7 +34,6 @@ static void teardown(Fixture *x)
 {
     rule_free(x->rs);
     free(x->t.recs);
-    strmap_free(&x->t.index);
     str_free(x->t.names);
     arena_free(&x->t.arena);
     str_free(x->ds.names);
