@@ -65,7 +65,7 @@ enum {
 typedef struct {
     SrcSet files;        /* every file read: the netlist, includes, libraries */
     Arena arena;         /* names, models, devices, cards */
-    StrTab *names;
+    StrTab *names;       /* a name's value (strtab.h): its node index at the top level of the netlist */
     Card *cards;
     size_t ncards;
     Model *models;

@@ -145,7 +145,8 @@ struct NlSubckt {
     const char **nodes;   /* node names as written, interned (malloc'd) */
     uint32_t nnodes;
     size_t capnodes;
-    StrMap nodemap;       /* name -> node index */
+    StrMap nodemap;       /* name -> node index (empty at the top level: there a name's value in
+                             Design.names is its node index) */
     NlParam *params;      /* defaults from the .subckt line first, then the body's .param cards */
     uint32_t nparams;
     size_t capparams;

@@ -217,6 +217,28 @@ static int node_index(Parser *ps, NlSubckt *s, const char *text, LexTok t, uint3
         *idx = e->node_idx;
         return ERR_OK;
     }
+    if (!s->name) {
+        /* the top level, which holds every net of a flat netlist: a name's value in the design's
+           table is its node index there, so one probe finds both (no node map) */
+        uint32_t *v;
+        const char *nm = str_intern_val(ps->nl->ds->names, text + t.off, t.len, &v);
+        if (!nm)
+            return nomem(ps);
+        if (*v == STR_NOVAL) {
+            if (s->nnodes >= UINT32_MAX - 1)
+                return nomem(ps);
+            *v = (uint32_t)s->nnodes; /* the push below leaves the table (and v) as it is */
+            if (BUF_PUSH(s->nodes, s->nnodes, s->capnodes, nm) != ERR_OK)
+                return nomem(ps);
+        }
+        *idx = *v;
+        if (e) {
+            e->s = nm;
+            e->node_of = s;
+            e->node_idx = *idx;
+        }
+        return ERR_OK;
+    }
     const char *nm = hit ? e->s : str_intern(ps->nl->ds->names, text + t.off, t.len);
     if (!nm)
         return nomem(ps);
