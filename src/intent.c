@@ -182,9 +182,11 @@ static void scan_card(Scan *s, uint32_t ci)
     size_t len = f->len;
     if (c->start > len || c->end > len || !s->colon[c->file])
         return;
-    /* walk up: collect the block of comment lines above */
+    /* walk up: collect the block of comment lines above; none when the card before ends where this
+       one starts (most cards of a large netlist) */
+    const Card *prev = ci > 0 ? &s->ds->cards[ci - 1] : NULL;
     size_t top = c->start, nabove = 0;
-    while (top > 0) {
+    while (top > 0 && !(prev && prev->file == c->file && prev->end == c->start)) {
         size_t ls, le;
         line_bounds(t, len, top - 1, &ls, &le);
         if (first_text(t, ls, le) >= le || !is_comment_line(t, ls, le))
@@ -204,6 +206,9 @@ static void scan_card(Scan *s, uint32_t ci)
         off++;
     }
     lineno = c->line;
+    /* the card's own lines: a marker ends in ':', and most cards have none */
+    if (!memchr(t + c->start, ':', c->end - c->start))
+        return;
     for (size_t off = c->start; off < c->end && off < len; lineno++) {
         size_t ls, le;
         line_bounds(t, len, off, &ls, &le);
