@@ -217,9 +217,11 @@ static int node_index(Parser *ps, NlSubckt *s, const char *text, LexTok t, uint3
         *idx = e->node_idx;
         return ERR_OK;
     }
-    if (!s->name) {
+    if (s == ps->open[0]) {
         /* the top level, which holds every net of a flat netlist: a name's value in the design's
-           table is its node index there, so one probe finds both (no node map) */
+           table is its node index there, so one probe finds both (no node map). (Not "s->name is
+           NULL": a .subckt card without a name makes a nameless subcircuit too; found by
+           fuzz_netlist.) */
         uint32_t *v;
         const char *nm = str_intern_val(ps->nl->ds->names, text + t.off, t.len, &v);
         if (!nm)

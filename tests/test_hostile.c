@@ -793,6 +793,40 @@ static void test_stray_control_bytes(void **state)
     free(p2);
 }
 
+/* Fuzz regression (fuzz_netlist): the top level's nets are numbered through the values of the
+ * design's name table, and a `.subckt` card without a name (an error, but reading goes on to find
+ * more) made a second subcircuit without a name that was taken for the top level. Its nets then
+ * kept numbers of its own in the top level's place, and the top level's cards below found their
+ * nets "known" with no node behind them: flattening read past the top level's node array. */
+static void test_nameless_subckt(void **state)
+{
+    (void)state;
+    static const char x[] = "* a nameless subcircuit\n.subckt\nm2 e f g h nch w=1u l=1u\n.ends\n"
+                            "m3 h g f e nch w=1u l=1u\n.model nch nmos level=1\n.end\n";
+    char *p = tu_tmpfile("nameless.cir", x, sizeof x - 1);
+    Design ds;
+    DiagList d;
+    diag_init(&d);
+    assert_int_equal(nl_load(p, NULL, &ds, &d), ERR_INPUT);
+    assert_true(d.n >= 1);
+    assert_int_equal(d.items[0].loc.line, 2);
+    assert_non_null(strstr(d.items[0].msg, ".subckt without a name"));
+    /* the same cards with the .subckt named load, and the top level's card has its own four nets */
+    static const char y[] = "* a named subcircuit\n.subckt s e f g h\nm2 e f g h nch w=1u l=1u\n.ends\n"
+                            "m3 h g f e nch w=1u l=1u\n.model nch nmos level=1\n.end\n";
+    char *q = tu_tmpfile("named.cir", y, sizeof y - 1);
+    assert_int_equal(nl_load(q, NULL, &ds, &d), ERR_OK);
+    assert_int_equal(ds.ndevs, 1);
+    assert_string_equal(ds.devs[0].name, "m3");
+    static const char *const want[4] = {"h", "g", "f", "e"};
+    for (int k = 0; k < 4; k++)
+        assert_string_equal(ds.devs[0].nets[k], want[k]);
+    nl_free(&ds);
+    diag_free(&d);
+    free(p);
+    free(q);
+}
+
 /* ---- characterization tables (fuzz_lut regressions) ------------------------------------------ */
 
 /* fixtures/lut/good.lut with the first occurrence of each from[i] replaced by to[i], as a file. */
@@ -913,6 +947,7 @@ int main(void)
         cmocka_unit_test(test_raw_binary_extremes),
         cmocka_unit_test(test_raw_nul_in_name),
         cmocka_unit_test(test_stray_control_bytes),
+        cmocka_unit_test(test_nameless_subckt),
         cmocka_unit_test(test_lut_hostile),
     };
     return cmocka_run_group_tests(tests, NULL, NULL);
