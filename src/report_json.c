@@ -70,7 +70,7 @@ static inline int jw_room(JW *w, size_t k)
     return w->cap - w->n >= k ? 1 : jw_make_room(w, k);
 }
 
-static void jw_raw(JW *w, const char *s, size_t n)
+static inline void jw_raw(JW *w, const char *s, size_t n)
 {
     if (jw_room(w, n)) {
         memcpy(w->p + w->n, s, n);
@@ -116,7 +116,7 @@ static void jw_str(JW *w, const char *s)
 }
 
 /* ,"k": (keys are this file's plain names) */
-static void jw_key(JW *w, const char *k)
+static inline void jw_key(JW *w, const char *k)
 {
     size_t n = strlen(k);
     if (jw_room(w, n + 4)) {
@@ -132,7 +132,7 @@ static void jw_key(JW *w, const char *k)
 
 /* The keys below are left out when their value is absent (null): a reader takes a missing key for
  * null. */
-static void kv_str(JW *w, const char *k, const char *v)
+static inline void kv_str(JW *w, const char *k, const char *v)
 {
     if (v) {
         jw_key(w, k);
@@ -140,7 +140,7 @@ static void kv_str(JW *w, const char *k, const char *v)
     }
 }
 
-static void jw_num(JW *w, double v)
+static inline void jw_num(JW *w, double v)
 {
     if (!isfinite(v))
         JW_LIT(w, "null");
@@ -149,7 +149,7 @@ static void jw_num(JW *w, double v)
 }
 
 /* A number as read or as given: the fewest digits that read back to the same double. */
-static void kv_num(JW *w, const char *k, double v)
+static inline void kv_num(JW *w, const char *k, double v)
 {
     if (isfinite(v)) {
         jw_key(w, k);
@@ -160,7 +160,7 @@ static void kv_num(JW *w, const char *k, double v)
 /* A figure biaslint computed: six significant digits, the precision of a simulator's printout
  * (more would only show rounding noise of the arithmetic). */
 #define FIG_DIGITS 6
-static void kv_fig(JW *w, const char *k, double v)
+static inline void kv_fig(JW *w, const char *k, double v)
 {
     if (isfinite(v)) {
         jw_key(w, k);
@@ -169,7 +169,7 @@ static void kv_fig(JW *w, const char *k, double v)
     }
 }
 
-static void jw_uint(JW *w, size_t v)
+static inline void jw_uint(JW *w, size_t v)
 {
     char b[24];
     size_t n = sizeof b;
@@ -179,19 +179,19 @@ static void jw_uint(JW *w, size_t v)
     jw_raw(w, b + n, sizeof b - n);
 }
 
-static void kv_uint(JW *w, const char *k, size_t v)
+static inline void kv_uint(JW *w, const char *k, size_t v)
 {
     jw_key(w, k);
     jw_uint(w, v);
 }
 
-static void kv_line(JW *w, const char *k, uint32_t line)
+static inline void kv_line(JW *w, const char *k, uint32_t line)
 {
     if (line)
         kv_uint(w, k, line);
 }
 
-static void kv_bool(JW *w, const char *k, int v)
+static inline void kv_bool(JW *w, const char *k, int v)
 {
     jw_key(w, k);
     if (v)
