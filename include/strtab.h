@@ -40,11 +40,9 @@ const char *str_copy(Arena *a, const char *s, size_t n);
 /* FNV-1a over the lower-cased bytes: the hash every name table in biaslint uses. */
 uint64_t str_hash(const char *s, size_t n);
 
-/* For lookups in bulk: ask the memory for the slot of hash h ahead of str_lookup_hashed, so that
- * the cache misses of many lookups overlap instead of following one another. */
+/* For lookups in bulk: ask the memory for the slot of hash h ahead of str_lookup_val, so that the
+ * cache misses of many lookups overlap instead of following one another. */
 void str_prefetch(const StrTab *t, uint64_t h);
-/* str_lookup with the hash of s[0..n) already computed. */
-const char *str_lookup_hashed(const StrTab *t, const char *s, size_t n, uint64_t h);
 
 /* StrMap: interned name -> uint32 value, open addressing, keyed by pointer. A key and its value share
  * one slot, so a lookup in a map of millions of names is one cache miss. */

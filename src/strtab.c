@@ -111,12 +111,7 @@ const char *str_copy(Arena *a, const char *s, size_t n)
 
 const char *str_lookup(const StrTab *t, const char *s, size_t n)
 {
-    return str_lookup_hashed(t, s, n, str_hash(s, n));
-}
-
-const char *str_lookup_hashed(const StrTab *t, const char *s, size_t n, uint64_t h)
-{
-    return str_lookup_val(t, s, n, h, NULL);
+    return str_lookup_val(t, s, n, str_hash(s, n), NULL);
 }
 
 const char *str_lookup_val(const StrTab *t, const char *s, size_t n, uint64_t h, uint32_t *val)
