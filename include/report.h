@@ -182,7 +182,7 @@ void rep_html_close(FILE *fp);
 #define REP_JSON_SCHEMA 3
 static inline int rep_json_schema_known(double schema)
 {
-    return schema == 1 || schema == 2 || schema == 3;
+    return schema >= 1 && schema <= REP_JSON_SCHEMA && schema == (double)(int)schema;
 }
 
 /* ---- escaping shared by the writers ---- */

@@ -28,7 +28,7 @@
 #define JW_FLUSH ((size_t)1 << 18) /* bytes kept before a write to the file */
 
 typedef struct {
-    FILE *fp;   /* where full buffers go; NULL: everything stays in the buffer */
+    FILE *fp;   /* where full buffers go */
     AsyncW *aw; /* the thread that writes them, or NULL: written here */
     char *p;
     size_t n, cap;
@@ -41,7 +41,7 @@ static int jw_make_room(JW *w, size_t k)
 {
     if (w->bad)
         return 0;
-    if (w->fp && w->n && w->n + k > w->cap) {
+    if (w->n && w->n + k > w->cap) {
         if (w->aw) {
             w->p = aw_swap(w->aw, w->p, w->n, &w->cap);
         } else if (fwrite(w->p, 1, w->n, w->fp) != w->n) {
@@ -51,7 +51,7 @@ static int jw_make_room(JW *w, size_t k)
     }
     if (w->n + k <= w->cap)
         return 1;
-    size_t cap = w->cap ? w->cap : (w->fp ? JW_FLUSH : 4096);
+    size_t cap = w->cap ? w->cap : JW_FLUSH;
     while (cap < w->n + k) {
         if (cap > SIZE_MAX / 2)
             return w->bad = 1, 0;
@@ -80,7 +80,7 @@ static inline void jw_raw(JW *w, const char *s, size_t n)
 
 #define JW_LIT(w, s) jw_raw((w), (s), sizeof(s) - 1)
 
-/* Out to the file (a writer with a file), and the buffer freed. ERR_OK, ERR_NOMEM or ERR_IO. */
+/* Out to the file, and the buffer freed. ERR_OK, ERR_NOMEM or ERR_IO. */
 static int jw_close(JW *w)
 {
     int io = w->io;
@@ -91,13 +91,21 @@ static int jw_close(JW *w)
         }
         io |= aw_finish(w->aw) != ERR_OK;
         w->aw = NULL;
-    } else if (w->fp && !w->bad && w->n && fwrite(w->p, 1, w->n, w->fp) != w->n) {
+    } else if (!w->bad && w->n && fwrite(w->p, 1, w->n, w->fp) != w->n) {
         io = 1;
     }
     free(w->p);
     w->p = NULL;
     w->n = w->cap = 0;
     return io ? ERR_IO : w->bad ? ERR_NOMEM : ERR_OK;
+}
+
+/* s escaped, without quotes. */
+static void jw_esc(JW *w, const char *s)
+{
+    size_t n = strlen(s);
+    if (jw_room(w, n * REP_JSON_ESC_MAX))
+        w->n += rep_json_escape(w->p + w->n, s, n);
 }
 
 /* A string in quotes, escaped; null for NULL. */
@@ -107,12 +115,9 @@ static void jw_str(JW *w, const char *s)
         JW_LIT(w, "null");
         return;
     }
-    size_t n = strlen(s);
-    if (jw_room(w, n * REP_JSON_ESC_MAX + 2)) {
-        w->p[w->n++] = '"';
-        w->n += rep_json_escape(w->p + w->n, s, n);
-        w->p[w->n++] = '"';
-    }
+    JW_LIT(w, "\"");
+    jw_esc(w, s);
+    JW_LIT(w, "\"");
 }
 
 /* ,"k": (keys are this file's plain names) */
@@ -297,12 +302,9 @@ static void origin(JW *w, const char *k, RuleOrigin o)
 {
     if (!o.file)
         return;
-    size_t fn = strlen(o.file);
     jw_key(w, k);
-    if (!jw_room(w, fn * REP_JSON_ESC_MAX + 1))
-        return;
-    w->p[w->n++] = '"';
-    w->n += rep_json_escape(w->p + w->n, o.file, fn);
+    JW_LIT(w, "\"");
+    jw_esc(w, o.file);
     if (o.line) {
         JW_LIT(w, ":");
         jw_uint(w, o.line);
