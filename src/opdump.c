@@ -290,12 +290,9 @@ int op_add_node(OpTable *t, const char *name, size_t n, double v)
 
 const OpRecord *op_find(const OpTable *t, const char *name)
 {
-    if (!t || !name)
-        return NULL;
-    size_t n = strlen(name);
-    uint32_t idx;
-    str_lookup_val(t->names, name, n, str_hash(name, n), &idx);
-    return idx != STR_NOVAL ? &t->recs[idx] : NULL;
+    const OpRecord *r;
+    op_find_all(t, &name, 1, &r);
+    return r;
 }
 
 void op_find_all(const OpTable *t, const char *const *names, size_t n, const OpRecord **out)
@@ -310,16 +307,18 @@ void op_find_all(const OpTable *t, const char *const *names, size_t n, const OpR
        has yet to read. */
     enum { DIST = 16, RING = 2 * DIST };
     uint64_t h[RING];
+    size_t len[RING];
     for (size_t i = 0; i < n + DIST; i++) {
         if (i >= DIST) {
             size_t k = i - DIST;
             uint32_t idx = STR_NOVAL;
             if (names[k])
-                str_lookup_val(t->names, names[k], strlen(names[k]), h[k % RING], &idx);
+                str_lookup_val(t->names, names[k], len[k % RING], h[k % RING], &idx);
             out[k] = idx != STR_NOVAL ? &t->recs[idx] : NULL;
         }
         if (i < n && names[i]) {
-            h[i % RING] = str_hash(names[i], strlen(names[i]));
+            len[i % RING] = strlen(names[i]);
+            h[i % RING] = str_hash(names[i], len[i % RING]);
             str_prefetch(t->names, h[i % RING]);
         }
     }
