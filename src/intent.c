@@ -185,8 +185,9 @@ static void scan_card(Scan *s, uint32_t ci)
     /* walk up: collect the block of comment lines above; none when the card before ends where this
        one starts (most cards of a large netlist) */
     const Card *prev = ci > 0 ? &s->ds->cards[ci - 1] : NULL;
+    int abuts = prev && prev->file == c->file && prev->end == c->start;
     size_t top = c->start, nabove = 0;
-    while (top > 0 && !(prev && prev->file == c->file && prev->end == c->start)) {
+    while (top > 0 && !abuts) {
         size_t ls, le;
         line_bounds(t, len, top - 1, &ls, &le);
         if (first_text(t, ls, le) >= le || !is_comment_line(t, ls, le))
