@@ -322,7 +322,7 @@ static int render(const Design *ds, const AnnCorner *corners, size_t ncorners, B
     qsort(slots, nslots, sizeof *slots, by_anchor);
 
     const char *text = top->text;
-    size_t eff = effective_len(text, top->len), off = 0, s = 0;
+    size_t eff = effective_len(text, top->len), off = 0, s = 0, dropped = 0;
     rc = ERR_OK;
     while (rc == ERR_OK && (off < eff || s < nslots)) {
         size_t at = s < nslots ? (slots[s].anchor > eff ? eff : slots[s].anchor) : eff;
@@ -336,6 +336,7 @@ static int render(const Design *ds, const AnnCorner *corners, size_t ncorners, B
                 if (fwrite(out->data, 1, out->len, sink) != out->len)
                     *ioerr = 1;
                 buf_clear(out);
+                src_drop_behind(top, &dropped, off); /* a netlist copied out need not stay in memory */
             }
         }
         if (s >= nslots)

@@ -552,7 +552,9 @@ static int csv_parse_table(OpTable *t, DiagList *d)
     if (c.len >= 3 && memcmp(c.text, "\xEF\xBB\xBF", 3) == 0)
         pos = 3;
     c.line = 0;
+    size_t dropped = 0;
     while (pos < c.len && !c.oom) {
+        src_drop_behind(&t->file, &dropped, pos);
         const char *lp = c.text + pos;
         const char *nl = memchr(lp, '\n', c.len - pos);
         size_t n = nl ? (size_t)(nl - lp) + 1 : c.len - pos;

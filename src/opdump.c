@@ -416,12 +416,7 @@ done:
     /* Nothing reads the dump's text once it is parsed (records keep their lines, diagnostics copied
        their excerpts), and it is the largest input of a big run: give it back, and the unused tail
        of the record array with it. */
-    free(t->file.text);
-    free(t->file.lines);
-    t->file.text = NULL;
-    t->file.len = 0;
-    t->file.lines = NULL;
-    t->file.nlines = 0;
+    src_free_text(&t->file);
     if (t->n && t->n < t->cap) {
         OpRecord *fit = realloc(t->recs, t->n * sizeof *t->recs);
         if (fit) {

@@ -368,6 +368,10 @@ int run_check(const Options *o, FILE *out, int color, DiagList *d)
         status = exit_for(rc);
         goto done;
     }
+    /* The netlist text is read again only for excerpts and by the annotation, in order: out of memory
+       until then (names and values were copied out of it). */
+    for (size_t i = 0; i < ds.files.n; i++)
+        src_drop(ds.files.files[i], 0, ds.files.files[i]->len);
     stage(&st, "intents");
     if ((rc = dump_finish(&dumps, d, 1)) != ERR_OK) {
         status = exit_for(rc);

@@ -1,15 +1,48 @@
-/* source: whole-file reads (one read per file, 64-bit sizes) and the lazy line table. */
+/* source: whole-file loads (a mapping of a regular file, one read loop for a pipe; 64-bit sizes)
+ * and the lazy line table. */
+#define _DEFAULT_SOURCE /* MAP_ANONYMOUS and madvise are outside POSIX (Linux and the BSDs have both) */
 #include "source.h"
 
 #include <errno.h>
+#include <stdint.h>
 #include <stdio.h>
 #include <stdlib.h>
 #include <string.h>
+#include <sys/mman.h>
 #include <sys/stat.h>
 #include <fcntl.h>
 #include <unistd.h>
 
 #include "buf.h"
+
+static size_t page_size(void)
+{
+    long p = sysconf(_SC_PAGESIZE);
+    return p > 0 ? (size_t)p : 4096;
+}
+
+/* Map the regular file fd of len bytes (len > 0) read-only, followed by at least one zero byte:
+   the bytes past the end of the file in its last page read as zeros; when the file ends on a page
+   boundary, an anonymous page placed after it gives the NUL. The pages are the system's page
+   cache, shared with every other reader of the file, and src_drop can hand them back at any time:
+   touched again, they come back from the file. NULL when the system will not map it (the caller
+   then reads it). */
+static char *map_file(int fd, size_t len, size_t *span)
+{
+    size_t pg = page_size();
+    if (len > SIZE_MAX - pg)
+        return NULL;
+    size_t whole = (len + 1 + pg - 1) / pg * pg, file = (len + pg - 1) / pg * pg;
+    char *p = mmap(NULL, whole, PROT_READ, MAP_PRIVATE | MAP_ANONYMOUS, -1, 0);
+    if (p == MAP_FAILED)
+        return NULL;
+    if (mmap(p, file, PROT_READ, MAP_PRIVATE | MAP_FIXED, fd, 0) == MAP_FAILED) {
+        munmap(p, whole);
+        return NULL;
+    }
+    *span = whole;
+    return p;
+}
 
 int src_load(SrcFile *f, const char *path, SrcLoc from, DiagList *d)
 {
@@ -44,13 +77,20 @@ int src_load(SrcFile *f, const char *path, SrcLoc from, DiagList *d)
                  path);
         return ERR_IO;
     }
-    /* Regular files are read in one go; pipes are read until EOF. A regular file gets one spare byte
-       beyond its NUL, so that the read which finds EOF needs no bigger buffer (a doubling realloc of
-       a 100 MB dump, for nothing). */
+    /* Regular files are mapped; pipes, and files the system will not map, are read until EOF. A read
+       file gets one spare byte beyond its NUL, so that the read which finds EOF needs no bigger buffer
+       (a doubling realloc of a 100 MB dump, for nothing). */
+    size_t len = 0, span = 0;
+    char *text = NULL;
+    if (S_ISREG(st.st_mode) && st.st_size > 0 && (uintmax_t)st.st_size < SIZE_MAX)
+        text = map_file(fd, (size_t)st.st_size, &span);
+    if (text) {
+        len = (size_t)st.st_size;
+        close(fd);
+        goto loaded;
+    }
     size_t cap = S_ISREG(st.st_mode) ? (size_t)st.st_size + 2 : 65536;
-    char *text = malloc(cap);
-    size_t len = 0;
-    if (!text)
+    if (!(text = malloc(cap)))
         goto nomem;
     for (;;) {
         if (len + 1 >= cap) {
@@ -77,12 +117,14 @@ int src_load(SrcFile *f, const char *path, SrcLoc from, DiagList *d)
     }
     close(fd);
     text[len] = '\0';
+loaded:
+    f->text = text;
+    f->span = span;
     f->path = strdup(path);
     if (!f->path) {
-        free(text);
+        src_free_text(f);
         return diag_nomem(d);
     }
-    f->text = text;
     f->len = len;
     f->dev = (uint64_t)st.st_dev;
     f->ino = (uint64_t)st.st_ino;
@@ -93,13 +135,36 @@ nomem:
     return diag_nomem(d);
 }
 
+void src_free_text(SrcFile *f)
+{
+    if (f->span)
+        munmap(f->text, f->span);
+    else
+        free(f->text);
+    free(f->lines);
+    f->text = NULL;
+    f->len = f->span = 0;
+    f->lines = NULL;
+    f->nlines = 0;
+}
+
+void src_drop(const SrcFile *f, size_t from, size_t to)
+{
+    if (!f->span)
+        return;
+    size_t pg = page_size();
+    from = (from + pg - 1) / pg * pg; /* whole pages only: the ones at the ends may still be in use */
+    to = to >= f->len ? f->span : to / pg * pg;
+    if (to > from)
+        madvise(f->text + from, to - from, MADV_DONTNEED);
+}
+
 void src_free(SrcFile *f)
 {
     if (!f)
         return;
     free(f->path);
-    free(f->text);
-    free(f->lines);
+    src_free_text(f);
     memset(f, 0, sizeof *f);
 }
 
