@@ -413,11 +413,37 @@ static int parse_var(Raw *r, const Plot *pl, size_t i, Var *v, NodeName **nodes,
 
 /* ---- values ---- */
 
+/* Where the values of point 0 go, as they are read: straight into the records and node voltages
+   (a million-device file has ten million variables: no array of values in between). */
 typedef struct {
     Var *vars;
-    double *val;     /* value of each variable at point 0 */
-    bool *have;
+    NodeName *nodes;
+    bool store;       /* false when the plot has more than one point: it is refused after the read */
+    size_t first_bad; /* the first variable read as absent (NaN or infinite), SIZE_MAX when none */
+    int rc;           /* ERR_OK, or the first failure to store (out of memory, too many nodes) */
 } Slots;
+
+static void store(Raw *r, const Plot *pl, Slots *sl, size_t i, double v, bool absent)
+{
+    const Var *var = &sl->vars[i];
+    if (absent) {
+        r->nonfinite++;
+        if (sl->first_bad == SIZE_MAX)
+            sl->first_bad = i;
+        return;
+    }
+    if (!sl->store)
+        return;
+    OpTable *t = r->t;
+    if (var->kind == VAR_NODE) {
+        int rc = op_add_node(t, t->file.text + sl->nodes[var->ref].off, sl->nodes[var->ref].len, v);
+        if (rc != ERR_OK && sl->rc == ERR_OK)
+            sl->rc = rc;
+    } else if (op_set(&t->recs[var->ref], (OpQty)var->q, v, (SrcLoc){t->file.path, (uint32_t)(pl->vars_line + i), 1},
+                      r->d) != ERR_OK) {
+        r->nerr++;
+    }
+}
 
 /* ASCII values: tokens separated by blanks and line ends. */
 typedef struct {
@@ -521,14 +547,8 @@ static int read_ascii(Raw *r, const Plot *pl, Slots *sl, size_t *end)
                 rc = ascii_number(&c, comma + 1, n - rn - 1, i, p, &im, &absent_im);
             if (rc != ERR_OK)
                 return rc;
-            if (p != 0 || sl->vars[i].kind == VAR_SKIP)
-                continue;
-            if (absent)
-                r->nonfinite++;
-            else {
-                sl->val[i] = v;
-                sl->have[i] = true;
-            }
+            if (p == 0 && sl->vars[i].kind != VAR_SKIP)
+                store(r, pl, sl, i, v, absent);
         }
     }
     /* nothing but another plot may follow */
@@ -553,17 +573,14 @@ static int read_binary(Raw *r, const Plot *pl, Slots *sl, size_t *end)
         return rc;
     size_t per = pl->complex ? 16 : 8;
     const char *base = r->text + pl->data_off;
+    size_t dropped = pl->data_off;
     for (size_t i = 0; i < pl->nvars; i++) {
+        src_drop_behind(&r->t->file, &dropped, pl->data_off + i * per);
         if (sl->vars[i].kind == VAR_SKIP)
             continue;
         double v;
         memcpy(&v, base + i * per, sizeof v); /* the real part comes first */
-        if (!isfinite(v)) {
-            r->nonfinite++;
-            continue;
-        }
-        sl->val[i] = v;
-        sl->have[i] = true;
+        store(r, pl, sl, i, v, !isfinite(v));
     }
     size_t e = pl->data_off + size;
     if (e < r->len && !(r->len - e >= 6 && memcmp(r->text + e, "Title:", 6) == 0))
@@ -587,21 +604,18 @@ static int read_plot(Raw *r, Plot *pl)
     if (pl->nvars > (r->len - pl->vars_off) / 6)
         return fail_at(r, (SrcLoc){t->file.path, pl->vars_line - 1, 1}, false, 0,
                        "No. Variables says %zu: more variable lines than the rest of the file can hold", pl->nvars);
-    Slots sl = {NULL, NULL, NULL};
+    Slots sl = {NULL, NULL, pl->npts == 1, SIZE_MAX, ERR_OK};
     NodeName *nodes = NULL;
     size_t nnodes = 0, nodecap = 0;
     int rc = ERR_NOMEM;
-    if (pl->nvars) {
-        sl.vars = malloc(pl->nvars * sizeof *sl.vars);
-        sl.val = malloc(pl->nvars * sizeof *sl.val);
-        sl.have = calloc(pl->nvars, sizeof *sl.have);
-        if (!sl.vars || !sl.val || !sl.have)
-            goto done;
-    }
+    if (pl->nvars && !(sl.vars = malloc(pl->nvars * sizeof *sl.vars)))
+        goto done;
     r->pos = pl->vars_off;
     r->line = pl->vars_line - 1;
     DevCache dc = {NULL, 0, 0};
+    size_t dropped = 0;
     for (size_t i = 0; i < pl->nvars; i++) {
+        src_drop_behind(&t->file, &dropped, r->pos);
         size_t save = r->pos;
         uint32_t sline = r->line;
         if (!next_line(r) || data_marker(r)) { /* fewer lines than No. Variables: find_data says so */
@@ -618,7 +632,10 @@ static int read_plot(Raw *r, Plot *pl)
     if ((rc = find_data(r, pl, pl->nvars)) != ERR_OK)
         goto done;
     size_t end;
+    sl.nodes = nodes;
     rc = pl->binary ? read_binary(r, pl, &sl, &end) : read_ascii(r, pl, &sl, &end);
+    if (rc == ERR_OK)
+        rc = sl.rc;
     if (rc != ERR_OK)
         goto done;
     if (pl->npts != 1) {
@@ -628,30 +645,10 @@ static int read_plot(Raw *r, Plot *pl)
                      (int)pl->nname, pl->name ? pl->name : "", pl->npts);
         goto done;
     }
-    size_t first_bad = SIZE_MAX;
-    for (size_t i = 0; i < pl->nvars; i++) {
-        const Var *v = &sl.vars[i];
-        if (v->kind == VAR_SKIP)
-            continue;
-        if (!sl.have[i]) {
-            if (first_bad == SIZE_MAX)
-                first_bad = i;
-            continue;
-        }
-        if (v->kind == VAR_NODE) {
-            if ((rc = op_add_node(t, t->file.text + nodes[v->ref].off, nodes[v->ref].len, sl.val[i])) != ERR_OK)
-                goto done;
-            continue;
-        }
-        OpRecord *rec = &t->recs[v->ref];
-        if (op_set(rec, (OpQty)v->q, sl.val[i], (SrcLoc){t->file.path, (uint32_t)(pl->vars_line + i), 1}, r->d) !=
-            ERR_OK)
-            r->nerr++;
-    }
-    if (r->nonfinite && first_bad != SIZE_MAX)
-        diag_add(r->d, DIAG_WARNING, (SrcLoc){t->file.path, (uint32_t)(pl->vars_line + first_bad), 1},
+    if (r->nonfinite && sl.first_bad != SIZE_MAX)
+        diag_add(r->d, DIAG_WARNING, (SrcLoc){t->file.path, (uint32_t)(pl->vars_line + sl.first_bad), 1},
                  "%zu value%s NaN or infinite, read as absent (the first: variable %zu, declared here)", r->nonfinite,
-                 r->nonfinite == 1 ? " is" : "s are", first_bad);
+                 r->nonfinite == 1 ? " is" : "s are", sl.first_bad);
     if (pl->complex)
         diag_add(r->d, DIAG_NOTE, (SrcLoc){t->file.path, pl->line, 1},
                  "plot '%.*s' is complex: device quantities are read from the real parts; its node voltages are "
@@ -665,8 +662,6 @@ done:
         diag_add(r->d, DIAG_ERROR, (SrcLoc){t->file.path, pl->vars_line, 1}, "more than %u node voltages in one plot",
                  (unsigned)UINT32_MAX);
     free(sl.vars);
-    free(sl.val);
-    free(sl.have);
     free(nodes);
     return rc;
 }
