@@ -117,7 +117,7 @@ FUZZ_TARGETS ?= netlist expr show raw csv rules lut json sweep
 FUZZ_SAN     ?= address,undefined
 FUZZ_BIN     := build/fuzz$(if $(findstring address,$(FUZZ_SAN)),,-ub)
 FUZZ_CFLAGS  := -O1 -g -fno-omit-frame-pointer -fsanitize=$(FUZZ_SAN) -fno-sanitize-recover=all \
-                -std=c11 -Wall -Wextra -Werror -Wshadow -Wconversion -Wno-sign-conversion
+                -std=c11 -Wall -Wextra -Werror -Wshadow -Wconversion -Wno-sign-conversion -DICACHE_BITS=8
 fuzz:
 	$(MAKE) BUILD=$(FUZZ_BIN) CC=$(FUZZ_CC) CFLAGS="$(FUZZ_CFLAGS) -fsanitize=fuzzer-no-link" fuzz-bins
 	sh tests/fuzz/mkcorpus.sh build/fuzz/corpus

@@ -98,11 +98,10 @@ typedef struct {
 } FileInfo;
 
 /* A direct-mapped cache in front of the name table for names of up to 8 bytes (nodes, models,
- * instance names): most names of a big netlist repeat, and this saves a probe of a large table. Its
- * size follows the top file's, about one entry per 64 bytes, from 1 << ICACHE_MIN_BITS entries to
- * 1 << ICACHE_MAX_BITS (2.5 MB): a small netlist does not pay for the cache of a big one. */
-#define ICACHE_MIN_BITS 8
-#define ICACHE_MAX_BITS 16
+ * instance names): most names of a big netlist repeat, and this saves a probe of a large table. */
+#ifndef ICACHE_BITS /* the fuzz build (make fuzz) sets 8: a 2.5 MB calloc per load is most of its time */
+#define ICACHE_BITS 16
+#endif
 typedef struct {
     uint64_t key;            /* the case-folded bytes */
     size_t len;
@@ -113,8 +112,7 @@ typedef struct {
 
 typedef struct {
     Netlist *nl;
-    ICache *icache;  /* 1 << icache_bits entries */
-    unsigned icache_bits;
+    ICache *icache;  /* 1 << ICACHE_BITS entries */
     NlSubckt **open; /* open .subckt definitions; open[0] is the top level */
     size_t nopen, capopen;
     Active *act;
@@ -156,7 +154,7 @@ static ICache *icache_slot(Parser *ps, const char *text, LexTok t, int *hit)
         unsigned char ch = (unsigned char)text[t.off + i];
         k = k << 8 | (ch >= 'A' && ch <= 'Z' ? ch + 32u : ch);
     }
-    ICache *e = &ps->icache[(k * 0x9E3779B97F4A7C15ull) >> (64 - ps->icache_bits)];
+    ICache *e = &ps->icache[(k * 0x9E3779B97F4A7C15ull) >> (64 - ICACHE_BITS)];
     if (e->s && e->key == k && e->len == t.len) {
         *hit = 1;
     } else {
@@ -1634,6 +1632,7 @@ int nl_load_pdk(const char *path, const NlOptions *opt, const NlPdkOptions *pdk,
     Parser ps;
     memset(&ps, 0, sizeof ps);
     ps.nl = &nl;
+    ps.icache = calloc((size_t)1 << ICACHE_BITS, sizeof *ps.icache); /* optional: NULL only slows names down */
     int rc = ERR_OK;
     if (!(ds->names = str_new(&ds->arena)) || !(nl.nm_zero = str_intern(ds->names, "0", 1)) ||
         !(nl.nm_gnd = str_intern(ds->names, "gnd", 3))) {
@@ -1646,10 +1645,6 @@ int nl_load_pdk(const char *path, const NlOptions *opt, const NlPdkOptions *pdk,
     if ((rc = src_set_load(&ds->files, path, (SrcLoc){0}, d, &top)) != ERR_OK)
         goto done;
     SrcFile *f = ds->files.files[top];
-    ps.icache_bits = ICACHE_MIN_BITS;
-    while (ps.icache_bits < ICACHE_MAX_BITS && (f->len >> 6) >> ps.icache_bits)
-        ps.icache_bits++;
-    ps.icache = calloc((size_t)1 << ps.icache_bits, sizeof *ps.icache); /* optional: NULL only slows names down */
     size_t bad;
     if (lex_binary(f->text, f->len, &bad)) {
         SrcLoc l = src_loc(f, bad);
