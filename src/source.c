@@ -44,6 +44,43 @@ static char *map_file(int fd, size_t len, size_t *span)
     return p;
 }
 
+/* Read fd to its end into a malloc'd buffer of first capacity cap, grown by doubling, with a NUL
+   after the bytes. 0, or an errno value (ENOMEM when memory ran out); nothing is left allocated on
+   failure. */
+static int read_all(int fd, size_t cap, char **out, size_t *outlen)
+{
+    size_t len = 0;
+    char *text = malloc(cap);
+    if (!text)
+        return ENOMEM;
+    for (;;) {
+        if (len + 1 >= cap) {
+            char *p = cap <= SIZE_MAX / 2 ? realloc(text, cap * 2) : NULL;
+            if (!p) {
+                free(text);
+                return ENOMEM;
+            }
+            text = p;
+            cap *= 2;
+        }
+        ssize_t r = read(fd, text + len, cap - 1 - len);
+        if (r < 0) {
+            if (errno == EINTR)
+                continue;
+            int e = errno;
+            free(text);
+            return e;
+        }
+        if (r == 0)
+            break;
+        len += (size_t)r;
+    }
+    text[len] = '\0';
+    *out = text;
+    *outlen = len;
+    return 0;
+}
+
 int src_load(SrcFile *f, const char *path, SrcLoc from, DiagList *d)
 {
     memset(f, 0, sizeof *f);
@@ -77,47 +114,24 @@ int src_load(SrcFile *f, const char *path, SrcLoc from, DiagList *d)
                  path);
         return ERR_IO;
     }
-    /* Regular files are mapped; pipes, and files the system will not map, are read until EOF. A read
-       file gets one spare byte beyond its NUL, so that the read which finds EOF needs no bigger buffer
-       (a doubling realloc of a 100 MB dump, for nothing). */
+    /* Regular files are mapped; pipes, and files the system will not map, are read. A read regular file
+       gets one spare byte beyond its NUL, so that the read which finds EOF needs no bigger buffer (a
+       doubling realloc of a 100 MB dump, for nothing). */
     size_t len = 0, span = 0;
     char *text = NULL;
-    if (S_ISREG(st.st_mode) && st.st_size > 0 && (uintmax_t)st.st_size < SIZE_MAX)
-        text = map_file(fd, (size_t)st.st_size, &span);
-    if (text) {
+    int e = 0;
+    if (S_ISREG(st.st_mode) && st.st_size > 0 && (uintmax_t)st.st_size < SIZE_MAX &&
+        (text = map_file(fd, (size_t)st.st_size, &span)))
         len = (size_t)st.st_size;
-        close(fd);
-        goto loaded;
-    }
-    size_t cap = S_ISREG(st.st_mode) ? (size_t)st.st_size + 2 : 65536;
-    if (!(text = malloc(cap)))
-        goto nomem;
-    for (;;) {
-        if (len + 1 >= cap) {
-            size_t ncap = cap * 2;
-            char *p = realloc(text, ncap);
-            if (!p)
-                goto nomem;
-            text = p;
-            cap = ncap;
-        }
-        ssize_t r = read(fd, text + len, cap - 1 - len);
-        if (r < 0) {
-            if (errno == EINTR)
-                continue;
-            int e = errno;
-            free(text);
-            close(fd);
-            diag_add(d, DIAG_ERROR, (SrcLoc){path, 0, 0}, "cannot read '%s': %s", path, strerror(e));
-            return ERR_IO;
-        }
-        if (r == 0)
-            break;
-        len += (size_t)r;
-    }
+    else
+        e = read_all(fd, S_ISREG(st.st_mode) ? (size_t)st.st_size + 2 : 65536, &text, &len);
     close(fd);
-    text[len] = '\0';
-loaded:
+    if (e == ENOMEM)
+        return diag_nomem(d);
+    if (e) {
+        diag_add(d, DIAG_ERROR, (SrcLoc){path, 0, 0}, "cannot read '%s': %s", path, strerror(e));
+        return ERR_IO;
+    }
     f->text = text;
     f->span = span;
     f->path = strdup(path);
@@ -129,10 +143,6 @@ loaded:
     f->dev = (uint64_t)st.st_dev;
     f->ino = (uint64_t)st.st_ino;
     return ERR_OK;
-nomem:
-    free(text);
-    close(fd);
-    return diag_nomem(d);
 }
 
 void src_free_text(SrcFile *f)
