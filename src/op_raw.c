@@ -418,7 +418,6 @@ static int parse_var(Raw *r, const Plot *pl, size_t i, Var *v, NodeName **nodes,
 typedef struct {
     Var *vars;
     NodeName *nodes;
-    bool store;       /* false when the plot has more than one point: it is refused after the read */
     size_t first_bad; /* the first variable read as absent (NaN or infinite), SIZE_MAX when none */
     int rc;           /* ERR_OK, or the first failure to store (out of memory, too many nodes) */
 } Slots;
@@ -432,8 +431,8 @@ static void store(Raw *r, const Plot *pl, Slots *sl, size_t i, double v, bool ab
             sl->first_bad = i;
         return;
     }
-    if (!sl->store)
-        return;
+    if (pl->npts != 1)
+        return; /* refused after the read */
     OpTable *t = r->t;
     if (var->kind == VAR_NODE) {
         int rc = op_add_node(t, t->file.text + sl->nodes[var->ref].off, sl->nodes[var->ref].len, v);
@@ -604,7 +603,7 @@ static int read_plot(Raw *r, Plot *pl)
     if (pl->nvars > (r->len - pl->vars_off) / 6)
         return fail_at(r, (SrcLoc){t->file.path, pl->vars_line - 1, 1}, false, 0,
                        "No. Variables says %zu: more variable lines than the rest of the file can hold", pl->nvars);
-    Slots sl = {NULL, NULL, pl->npts == 1, SIZE_MAX, ERR_OK};
+    Slots sl = {NULL, NULL, SIZE_MAX, ERR_OK};
     NodeName *nodes = NULL;
     size_t nnodes = 0, nodecap = 0;
     int rc = ERR_NOMEM;
