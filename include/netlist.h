@@ -116,10 +116,10 @@ typedef struct {
 typedef struct {
     const char *name;    /* interned: "x1" */
     const char *subname; /* interned subcircuit name as written */
-    uint32_t *nodes;     /* indices into the enclosing subcircuit's node table (arena) */
+    uint32_t *nodes;     /* indices into the enclosing subcircuit's node table (Netlist.parse) */
     uint32_t nnodes;
     uint32_t nparams;
-    NlParam *params;     /* overrides, in card order, `m` excluded (arena) */
+    NlParam *params;     /* overrides, in card order, `m` excluded (Netlist.parse) */
     int32_t *slot;       /* per override: index in sub->params, -1 when it names none (flatten) */
     NlVal m;
     NlSubckt *sub;       /* resolved by flatten; NULL when undefined */
@@ -205,6 +205,8 @@ typedef struct {
 typedef struct {
     Design *ds;
     DiagList *d;
+    Arena parse;            /* what only reading and flattening use, freed after them: parsed
+                               expressions, X cards' nodes and overrides */
     NlOptions opt;          /* with the defaults filled in */
     size_t nerrors;         /* errors recorded by this load */
     NlSubckt **subs;        /* [0] is the top level (malloc'd) */

@@ -136,7 +136,7 @@ static int nomem(Parser *ps)
 /* An element's own name (M1, X3, R7): unique, so copied rather than interned (strtab.h). */
 static const char *own_name(Parser *ps, const char *text, LexTok t)
 {
-    const char *s = str_copy(&ps->nl->ds->arena, text + t.off, t.len);
+    const char *s = str_copy(&ps->nl->ds->arena, text + t.off, t.len); /* top-level devices keep it */
     if (!s)
         nomem(ps);
     return s;
@@ -720,7 +720,7 @@ static int card_inst(Parser *ps, uint32_t file, const LexLine *ln, size_t anchor
     x.sub_off = tw[nw - 1].off;
     if (!(x.subname = intern(ps, text, tw[nw - 1])))
         goto oom;
-    if (x.nnodes && !(x.nodes = arena_array(&nl->ds->arena, x.nnodes, sizeof *x.nodes)))
+    if (x.nnodes && !(x.nodes = arena_array(&nl->parse, x.nnodes, sizeof *x.nodes)))
         goto oom;
     for (uint32_t k = 0; k < x.nnodes; k++)
         if (node_index(ps, s, text, tw[k], &x.nodes[k]) != ERR_OK)
@@ -759,8 +759,8 @@ static int card_inst(Parser *ps, uint32_t file, const LexLine *ln, size_t anchor
     }
     x.nparams = (uint32_t)(params.len / sizeof(NlParam));
     if (x.nparams) {
-        if (!(x.params = arena_alloc(&nl->ds->arena, params.len)) ||
-            !(x.slot = arena_array(&nl->ds->arena, x.nparams, sizeof *x.slot)))
+        if (!(x.params = arena_alloc(&nl->parse, params.len)) ||
+            !(x.slot = arena_array(&nl->parse, x.nparams, sizeof *x.slot)))
             goto oom2;
         memcpy(x.params, params.data, params.len);
     }
@@ -1572,6 +1572,7 @@ static void free_netlist(Netlist *nl)
     free(nl->funcs);
     strmap_free(&nl->globals);
     free(nl->xorder);
+    arena_free(&nl->parse);
 }
 
 static void free_parser(Parser *ps)
@@ -1616,6 +1617,7 @@ int nl_load_pdk(const char *path, const NlOptions *opt, const NlPdkOptions *pdk,
     memset(&nl, 0, sizeof nl);
     nl.ds = ds;
     nl.d = d;
+    arena_init(&nl.parse);
     if (opt)
         nl.opt = *opt;
     if (pdk)
@@ -1639,7 +1641,7 @@ int nl_load_pdk(const char *path, const NlOptions *opt, const NlPdkOptions *pdk,
         rc = diag_nomem(d);
         goto done;
     }
-    ps.ep.arena = &ds->arena;
+    ps.ep.arena = &nl.parse;
     ps.ep.names = ds->names;
     uint32_t top;
     if ((rc = src_set_load(&ds->files, path, (SrcLoc){0}, d, &top)) != ERR_OK)
@@ -1670,7 +1672,7 @@ int nl_load_pdk(const char *path, const NlOptions *opt, const NlPdkOptions *pdk,
         rc = diag_nomem(d);
         goto done;
     }
-    ps.ep.arena = &ds->arena;
+    ps.ep.arena = &nl.parse;
     if ((rc = read_range(&ps, top, 0, f->len, 1, 1, SIZE_MAX)) != ERR_OK)
         goto done;
     for (size_t i = ps.nopen; i-- > 1;) {

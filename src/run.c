@@ -10,6 +10,7 @@
 #include <string.h>
 #include <sys/resource.h>
 #include <time.h>
+#include <unistd.h>
 
 #include "annotate.h"
 #include "baseline.h"
@@ -49,8 +50,18 @@ static void stage(Stages *s, const char *name)
     clock_gettime(CLOCK_MONOTONIC, &t);
     struct rusage ru;
     getrusage(RUSAGE_SELF, &ru);
-    fprintf(stderr, "stage %-10s %8.3f s  peak RSS %6.0f MB\n", name,
-            (double)(t.tv_sec - s->t0.tv_sec) + (double)(t.tv_nsec - s->t0.tv_nsec) * 1e-9, (double)ru.ru_maxrss / 1024);
+    /* the resident size now, where the system tells it (Linux: pages, second field) */
+    double now = -1;
+    FILE *f = fopen("/proc/self/statm", "r");
+    if (f) {
+        unsigned long size, res;
+        if (fscanf(f, "%lu %lu", &size, &res) == 2)
+            now = (double)res * (double)sysconf(_SC_PAGESIZE) / (1024.0 * 1024.0);
+        fclose(f);
+    }
+    fprintf(stderr, "stage %-10s %8.3f s  peak RSS %6.0f MB  now %6.0f MB\n", name,
+            (double)(t.tv_sec - s->t0.tv_sec) + (double)(t.tv_nsec - s->t0.tv_nsec) * 1e-9, (double)ru.ru_maxrss / 1024,
+            now);
     s->t0 = t;
 }
 
