@@ -1286,7 +1286,9 @@ static int read_range(Parser *ps, uint32_t file, size_t start, size_t end, uint3
     size_t state_off = 0;
     const char *state_name = NULL;
     int top_main = file == 0 && ps->nact == 1 && ps->act[0].sec == NULL;
+    size_t dropped = start; /* what lies behind the cursor is not read again soon (source.h) */
     while (!ps->stop && lex_next(&lx, &ln)) {
+        src_drop_behind(f, &dropped, ln.start);
         if (ln.kind == LEX_TITLE) {
             size_t e = ln.end;
             while (e > ln.start && (text[e - 1] == '\n' || text[e - 1] == '\r'))
