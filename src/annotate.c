@@ -4,6 +4,7 @@
 #include "annotate.h"
 
 #include <math.h>
+#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -70,17 +71,22 @@ int ann_strip(const char *text, size_t len, Buf *out)
 
 /* ---- the annotation lines ---- */
 
+/* An index into the rows, the cards or a corner's findings: four bytes, since a large design holds
+ * several arrays of them with one entry per device. */
+typedef uint32_t Ix;
+#define IX_MAX UINT32_MAX
+
 typedef struct {
     const Design *ds;
     const Joined *j;                  /* the corner being written */
     const Findings *f;
-    size_t *row_start, *row_list;     /* rows grouped by card */
-    size_t *find_start, *find_list;   /* the corner's findings grouped by row */
+    Ix *row_start, *row_list;         /* rows grouped by card */
+    Ix *find_start, *find_list;       /* the corner's findings grouped by row */
     const char *eol;
     Buf *out;
     const AnnCorner *cs;              /* every corner, and their findings grouped by row */
     size_t ncs;
-    size_t **fstart, **flist;
+    Ix **fstart, **flist;
     const char *label;                /* the corner's label on each line, or NULL */
 } Ctx;
 
@@ -167,7 +173,7 @@ static int row_findings(Ctx *c, size_t row)
 
 /* One line for many instances of a card: region counts, gm/ID range, worst margin, then the worst
  * findings (they are sorted by severity already, so the first ones are the worst). */
-static int summary_lines(Ctx *c, const size_t *rows, size_t n)
+static int summary_lines(Ctx *c, const Ix *rows, size_t n)
 {
     size_t region_n[REGION_COUNT] = {0}, worst = SIZE_MAX, nfind = 0;
     double lo = NAN, hi = NAN;
@@ -224,7 +230,7 @@ static int summary_lines(Ctx *c, const size_t *rows, size_t n)
 
 static int card_lines(Ctx *c, size_t card)
 {
-    const size_t *rows = c->row_list + c->row_start[card];
+    const Ix *rows = c->row_list + c->row_start[card];
     size_t n = c->row_start[card + 1] - c->row_start[card];
     int rc = ERR_OK;
     if (n > ANN_MAX_INSTANCES) {
@@ -245,9 +251,11 @@ static int card_lines(Ctx *c, size_t card)
 }
 
 /* Counting sort of n items into nkeys groups: start[] has nkeys+1 entries, list[] the items. */
-static int group(size_t nkeys, size_t n, size_t (*key)(const void *, size_t), const void *ctx, size_t **start,
-                 size_t **list)
+static int group(size_t nkeys, size_t n, size_t (*key)(const void *, size_t), const void *ctx, Ix **start,
+                 Ix **list)
 {
+    if (nkeys >= IX_MAX || n >= IX_MAX)
+        return ERR_NOMEM; /* not reached: a design this large does not fit in memory to begin with */
     *start = calloc(nkeys + 1, sizeof **start);
     *list = malloc((n ? n : 1) * sizeof **list);
     if (!*start || !*list)
@@ -256,12 +264,12 @@ static int group(size_t nkeys, size_t n, size_t (*key)(const void *, size_t), co
         (*start)[key(ctx, i) + 1]++;
     for (size_t k = 0; k < nkeys; k++)
         (*start)[k + 1] += (*start)[k];
-    size_t *fill = malloc((nkeys ? nkeys : 1) * sizeof *fill);
+    Ix *fill = malloc((nkeys ? nkeys : 1) * sizeof *fill);
     if (!fill)
         return ERR_NOMEM;
     memcpy(fill, *start, nkeys * sizeof *fill);
     for (size_t i = 0; i < n; i++)
-        (*list)[fill[key(ctx, i)]++] = i;
+        (*list)[fill[key(ctx, i)]++] = (Ix)i;
     free(fill);
     return ERR_OK;
 }
@@ -277,7 +285,8 @@ static size_t finding_row(const void *ctx, size_t i)
 }
 
 typedef struct {
-    size_t anchor, card;
+    size_t anchor;
+    Ix card;
 } Slot;
 
 static int by_anchor(const void *a, const void *b)
@@ -288,6 +297,27 @@ static int by_anchor(const void *a, const void *b)
     return x->card < y->card ? -1 : x->card > y->card;
 }
 
+/* order[0..n): cards (with rows) by anchor, then by card. They come in reading order, which is
+ * anchor order unless a .lib section was read late: sorted only then. */
+static int anchor_order(const Card *cards, Ix *order, size_t n)
+{
+    size_t k = 1;
+    while (k < n && cards[order[k - 1]].anchor_end <= cards[order[k]].anchor_end)
+        k++;
+    if (k >= n)
+        return ERR_OK;
+    Slot *s = malloc(n * sizeof *s);
+    if (!s)
+        return ERR_NOMEM;
+    for (k = 0; k < n; k++)
+        s[k] = (Slot){cards[order[k]].anchor_end, order[k]};
+    qsort(s, n, sizeof *s, by_anchor);
+    for (k = 0; k < n; k++)
+        order[k] = s[k].card;
+    free(s);
+    return ERR_OK;
+}
+
 int ann_render(const Design *ds, const Joined *j, const Findings *f, Buf *out)
 {
     AnnCorner one = {NULL, j, f};
@@ -295,6 +325,12 @@ int ann_render(const Design *ds, const Joined *j, const Findings *f, Buf *out)
 }
 
 #define ANN_FLUSH ((size_t)1 << 20) /* ann_write_corners hands the text on in pieces of about this */
+
+/* Where card k's annotation goes: its anchor, or the end of the text (eff) for one past it. */
+static inline size_t anchor_at(const Design *ds, Ix k, size_t eff)
+{
+    return ds->cards[k].anchor_end > eff ? eff : ds->cards[k].anchor_end;
+}
 
 /* What ann_render_corners does; with sink set, out is written to it and emptied whenever it holds
  * ANN_FLUSH bytes (never inside one anchor's block, which the last-line fix below rewrites), so
@@ -306,26 +342,27 @@ static int render(const Design *ds, const AnnCorner *corners, size_t ncorners, B
     const SrcFile *top = ds->files.files[0];
     const Joined *j = corners[0].joined;
     Ctx c = {ds, j, corners[0].findings, NULL, NULL, NULL, NULL, "\n", out, corners, ncorners, NULL, NULL, NULL};
-    Slot *slots = malloc((ds->ncards ? ds->ncards : 1) * sizeof *slots);
+    Ix *order = malloc((ds->ncards ? ds->ncards : 1) * sizeof *order);
     c.fstart = calloc(ncorners, sizeof *c.fstart);
     c.flist = calloc(ncorners, sizeof *c.flist);
     int rc = ERR_NOMEM;
-    if (!slots || !c.fstart || !c.flist || group(ds->ncards, j->n, row_card, j, &c.row_start, &c.row_list) != ERR_OK)
+    if (!order || !c.fstart || !c.flist || group(ds->ncards, j->n, row_card, j, &c.row_start, &c.row_list) != ERR_OK)
         goto done;
     for (size_t k = 0; k < ncorners; k++)
         if (group(j->n, corners[k].findings->n, finding_row, corners[k].findings, &c.fstart[k], &c.flist[k]) != ERR_OK)
             goto done;
-    size_t nslots = 0;
+    size_t norder = 0;
     for (size_t k = 0; k < ds->ncards; k++)
         if (c.row_start[k + 1] > c.row_start[k])
-            slots[nslots++] = (Slot){ds->cards[k].anchor_end, k};
-    qsort(slots, nslots, sizeof *slots, by_anchor);
+            order[norder++] = (Ix)k;
+    if (anchor_order(ds->cards, order, norder) != ERR_OK)
+        goto done;
 
     const char *text = top->text;
     size_t eff = effective_len(text, top->len), off = 0, s = 0, dropped = 0;
     rc = ERR_OK;
-    while (rc == ERR_OK && (off < eff || s < nslots)) {
-        size_t at = s < nslots ? (slots[s].anchor > eff ? eff : slots[s].anchor) : eff;
+    while (rc == ERR_OK && (off < eff || s < norder)) {
+        size_t at = s < norder ? anchor_at(ds, order[s], eff) : eff;
         /* copy the original lines up to the anchor, leaving out old annotation lines */
         while (off < at) {
             size_t e = line_end(text, eff, off);
@@ -339,14 +376,14 @@ static int render(const Design *ds, const AnnCorner *corners, size_t ncorners, B
                 src_drop_behind(top, &dropped, off); /* a netlist copied out need not stay in memory */
             }
         }
-        if (s >= nslots)
+        if (s >= norder)
             break;
         /* the new lines for every card anchored here, in the line ending of the line above */
         c.eol = at >= 2 && text[at - 1] == '\n' && text[at - 2] == '\r' ? "\r\n" : "\n";
         int no_eol = at == eff && (at == 0 || text[at - 1] != '\n');
         size_t mark = out->len;
-        for (; s < nslots && (slots[s].anchor > eff ? eff : slots[s].anchor) == at; s++)
-            rc |= card_lines(&c, slots[s].card);
+        for (; s < norder && anchor_at(ds, order[s], eff) == at; s++)
+            rc |= card_lines(&c, order[s]);
         if (no_eol && rc == ERR_OK) {
             /* the last line had no line ending: put one before the block and none after it. After a
                final CR that line ending is CRLF, as strip takes a CR before its LF for part of it
@@ -366,7 +403,7 @@ static int render(const Design *ds, const AnnCorner *corners, size_t ncorners, B
     if (rc != ERR_OK)
         rc = ERR_NOMEM;
 done:
-    free(slots);
+    free(order);
     free(c.row_start);
     free(c.row_list);
     for (size_t k = 0; c.fstart && k < ncorners; k++)

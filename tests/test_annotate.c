@@ -208,6 +208,29 @@ static void test_included_card_anchored_at_include(void **state)
     free(out);
 }
 
+/* A .lib section of the top file called near its top is read first, so its card comes first in
+ * reading order while its annotation belongs further down: the lines still follow their cards. */
+static void test_cards_out_of_anchor_order(void **state)
+{
+    (void)state;
+    static const char text[] = "title\n.lib 't.cir' fast\nm1 d g 0 0 nch\n.lib fast\nm2 d g 0 0 nch\n.endl\n.end\n";
+    Fixture x;
+    setup(&x, text, (size_t[]){0, 1}, 2);
+    /* card 0 is the section's m2 (read at the .lib call), card 1 the top level's m1 */
+    size_t m1 = strstr(text, "m1") - text, m2 = strstr(text, "m2") - text, e1 = strstr(text, ".lib fast") - text,
+           e2 = strstr(text, ".endl") - text;
+    x.cards[0] = (Card){0, 5, 1, m2, e2, e2};
+    x.cards[1] = (Card){0, 3, 1, m1, e1, e1};
+    x.devs[0].name = "m2";
+    x.devs[1].name = "m1";
+    char *out = render(&x);
+    assert_non_null(strstr(out, "m1 d g 0 0 nch\n*~ [m1] moderate"));
+    assert_non_null(strstr(out, "m2 d g 0 0 nch\n*~ [m2] moderate"));
+    assert_true(strstr(out, "[m1]") < strstr(out, "[m2]"));
+    assert_strips_to(out, text);
+    free(out);
+}
+
 static void test_strip_leaves_other_comments(void **state)
 {
     (void)state;
@@ -229,6 +252,7 @@ int main(void)
         cmocka_unit_test(test_title_with_the_mark_kept),
         cmocka_unit_test(test_many_instances_summarised),
         cmocka_unit_test(test_included_card_anchored_at_include),
+        cmocka_unit_test(test_cards_out_of_anchor_order),
         cmocka_unit_test(test_strip_leaves_other_comments),
     };
     return cmocka_run_group_tests_name("annotate", tests, NULL, NULL);
