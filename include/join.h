@@ -36,18 +36,21 @@ typedef struct {
     size_t nmatched;
     int overlap;                /* overlap capacitance was added to Cgg where the model gives it */
     OpRecord *derived;          /* check --table: records built from tables, one per table-derived row; malloc'd */
+    double *derived_q;          /* their values, OPQ_COUNT each; malloc'd */
     size_t ntable;              /* rows whose figures come from a table (Row.lut set, lut_miss 0) */
 } Joined;
 
 typedef struct {
     int add_overlap;            /* add the model cards' overlap capacitance to Cgg (fT) */
     double min_match_fraction;  /* below this fraction of devices matched, the dump is rejected (0.5) */
+    int release_values;         /* the dump's values are read for the last time: join hands them back
+                                   as it goes (op_release_values), and the records keep no q */
 } JoinOptions;
 
 /* Match every device of ds to t. A dump that matches fewer than opt->min_match_fraction of the
  * devices is an error (it is likely from another netlist); an ambiguous cut name is an error.
  * Devices without data and records without a device are warnings. ERR_OK, ERR_INPUT, ERR_NOMEM. */
-int join_run(const Design *ds, const OpTable *t, const RuleSet *rs, const JoinOptions *opt, Joined *out,
+int join_run(const Design *ds, OpTable *t, const RuleSet *rs, const JoinOptions *opt, Joined *out,
              DiagList *d) MUST_CHECK;
 
 /* join_run, and then for every device the dump has no record for: when the dump holds the voltages of
@@ -56,7 +59,7 @@ int join_run(const Design *ds, const OpTable *t, const RuleSet *rs, const JoinOp
  * table, currents, conductances and capacitances scaled by W*m/w_ref (W total over fingers). Such
  * rows have Row.lut set and count as matched. A device outside the table's grid gets Row.lut and
  * Row.lut_miss, no figures, and a warning that says why. tables may be NULL when ntables is 0. */
-int join_run_tables(const Design *ds, const OpTable *t, const RuleSet *rs, const JoinOptions *opt,
+int join_run_tables(const Design *ds, OpTable *t, const RuleSet *rs, const JoinOptions *opt,
                     const struct Lut *const *tables, size_t ntables, Joined *out, DiagList *d) MUST_CHECK;
 void join_free(Joined *j);
 

@@ -35,7 +35,8 @@ typedef struct {
     bool truncated;       /* the dump cut the name (ngspice `show` keeps 21 characters): match by prefix */
     OpFamily family;
     const char *model;    /* model name when the dump gives it, interned; NULL otherwise */
-    double q[OPQ_COUNT];  /* NaN where absent: an absent value is never 0 */
+    double *q;            /* OPQ_COUNT values, NaN where absent (an absent value is never 0), in one of
+                             the table's blocks; NULL once op_release_values gave them back */
     SrcLoc loc;           /* where the record starts in the dump (file borrowed from the OpTable) */
     uint32_t extra;       /* index of this record's first value in OpTable.extra_vals */
 } OpRecord;
@@ -49,6 +50,8 @@ typedef struct {
     StrTab *names;          /* a record's name has its index in recs as its value (strtab.h) */
     OpRecord *recs;         /* malloc'd array */
     size_t n, cap;
+    double **vblock;        /* the records' values: block b holds records b*OP_VBLOCK.. (mem_pages) */
+    size_t nvblock, capvblock;
     /* Node voltages (raw files; show output where a node table is printed). Names canonical
        ("x1.tail", "out"), interned. */
     const char **node_name;
@@ -85,6 +88,15 @@ void op_free(OpTable *t);
  * NULL with a diagnostic for a duplicate when merge is false, or out of memory (d->oom set).
  * The pointer is valid until the next op_add on t (the array may move). */
 OpRecord *op_add(OpTable *t, const char *name, size_t n, SrcLoc loc, bool merge, DiagList *d);
+
+/* Records per block of values: 4096 records of OPQ_COUNT doubles are 144 pages. */
+#define OP_VBLOCK 4096
+
+/* Give back the values of the records before index upto, in whole blocks (their q become NULL), for
+ * a reader that has read them for the last time: join reads a large dump's records in order and
+ * hands their values back as it goes, so that they and the rows made of them are not both held
+ * whole. upto >= t->n gives back every block and the block list. */
+void op_release_values(OpTable *t, size_t upto);
 
 /* Set quantity q of r to v; a different value already there is a conflict: an error at loc. Setting
  * NaN does nothing (absent stays absent). ERR_OK or ERR_INPUT. */

@@ -1,8 +1,10 @@
-/* memhint: madvise(MADV_HUGEPAGE) where Linux has it, nothing elsewhere. */
+/* memhint: madvise(MADV_HUGEPAGE) where Linux has it, nothing elsewhere; pages by mmap on Linux, by
+ * malloc elsewhere. */
 #define _DEFAULT_SOURCE /* MADV_HUGEPAGE is outside POSIX */
 #include "memhint.h"
 
 #include <stdint.h>
+#include <stdlib.h>
 
 #if defined(__linux__)
 #include <sys/mman.h>
@@ -19,5 +21,27 @@ void mem_hint_huge(void *p, size_t n)
 #else
     (void)p;
     (void)n;
+#endif
+}
+
+void *mem_pages(size_t n)
+{
+#if defined(__linux__) && defined(MAP_ANONYMOUS)
+    void *p = mmap(NULL, n ? n : 1, PROT_READ | PROT_WRITE, MAP_PRIVATE | MAP_ANONYMOUS, -1, 0);
+    return p == MAP_FAILED ? NULL : p;
+#else
+    return calloc(1, n ? n : 1);
+#endif
+}
+
+void mem_pages_free(void *p, size_t n)
+{
+    if (!p)
+        return;
+#if defined(__linux__) && defined(MAP_ANONYMOUS)
+    munmap(p, n ? n : 1);
+#else
+    (void)n;
+    free(p);
 #endif
 }

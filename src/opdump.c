@@ -10,6 +10,7 @@
 #include <string.h>
 
 #include "buf.h"
+#include "memhint.h"
 
 /* ORDER OPQ */
 const char *const op_qty_name[OPQ_COUNT] = {
@@ -47,6 +48,7 @@ static bool same_fold(const char *a, size_t n, const char *lower)
     return lower[n] == '\0';
 }
 
+#define VBLOCK_BYTES ((size_t)OP_VBLOCK * OPQ_COUNT * sizeof(double))
 #define QTY_NAME_MAX 6 /* the longest name above, "length" */
 
 static bool same_n(const char *a, const char *b, size_t n)
@@ -242,17 +244,47 @@ OpRecord *op_add(OpTable *t, const char *name, size_t n, SrcLoc loc, bool merge,
         diag_nomem(d);
         return NULL;
     }
+    size_t b = t->n / OP_VBLOCK;
+    if (b >= t->nvblock) {
+        double *blk = mem_pages(VBLOCK_BYTES);
+        if (!blk || buf_grow_array((void **)&t->vblock, &t->capvblock, b + 1, sizeof *t->vblock) != ERR_OK) {
+            mem_pages_free(blk, VBLOCK_BYTES);
+            diag_nomem(d);
+            return NULL;
+        }
+        t->vblock[t->nvblock++] = blk;
+    }
     *idx = (uint32_t)t->n;
-    OpRecord *r = &t->recs[t->n++];
+    OpRecord *r = &t->recs[t->n];
     r->name = iname;
     r->truncated = false;
     r->family = OPFAM_UNKNOWN;
     r->model = NULL;
+    r->q = t->vblock[b] + (t->n % OP_VBLOCK) * OPQ_COUNT;
+    t->n++;
     for (int q = 0; q < OPQ_COUNT; q++)
         r->q[q] = NAN;
     r->loc = loc;
     r->extra = 0;
     return r;
+}
+
+void op_release_values(OpTable *t, size_t upto)
+{
+    size_t all = upto >= t->n, nb = all ? t->nvblock : upto / OP_VBLOCK;
+    for (size_t b = 0; b < nb && b < t->nvblock; b++) {
+        if (!t->vblock[b])
+            continue;
+        mem_pages_free(t->vblock[b], VBLOCK_BYTES);
+        t->vblock[b] = NULL;
+        for (size_t i = b * OP_VBLOCK; i < t->n && i < (b + 1) * OP_VBLOCK; i++)
+            t->recs[i].q = NULL;
+    }
+    if (all) {
+        free(t->vblock);
+        t->vblock = NULL;
+        t->nvblock = t->capvblock = 0;
+    }
 }
 
 int op_set(OpRecord *r, OpQty q, double v, SrcLoc loc, DiagList *d)
@@ -435,6 +467,7 @@ void op_free(OpTable *t)
     src_free(&t->file);
     str_free(t->names);
     arena_free(&t->arena);
+    op_release_values(t, SIZE_MAX);
     free(t->recs);
     free(t->node_name);
     free(t->node_v);

@@ -21,6 +21,7 @@ typedef struct {
     Device devs[NDEV];
     Model models[3];
     OpRecord recs[MAXC][NDEV + 1];
+    double vals[MAXC][NDEV + 1][OPQ_COUNT]; /* the records' values */
     Row rows[MAXC][NDEV];
     const OpRecord *orphans[MAXC][1];
     OpTable op[MAXC];
@@ -37,10 +38,11 @@ typedef struct {
 /* Corner labels when there are several (one corner: ""). */
 static const char *const scene_label[MAXC] = {"typ", "cold", "hot"};
 
-static inline OpRecord scene_rec(const char *name, OpFamily fam, const char *file, uint32_t line)
+static inline OpRecord scene_rec(double *v, const char *name, OpFamily fam, const char *file, uint32_t line)
 {
     OpRecord r;
     memset(&r, 0, sizeof r);
+    r.q = v;
     r.name = name;
     r.family = fam;
     r.loc = (SrcLoc){file, line, 1};
@@ -51,38 +53,38 @@ static inline OpRecord scene_rec(const char *name, OpFamily fam, const char *fil
 
 /* The records of corner k. Corner 0 is the base; "cold" pushes x1.m3 into triode and lowers its
  * gain; "hot" leaves x1.m3 5 mV of headroom and x1.m1 40 mV. */
-static inline void scene_records(OpRecord *r, int k)
+static inline void scene_records(OpRecord *r, double (*v)[OPQ_COUNT], int k)
 {
     static const char *const dump[MAXC] = {"amp.log", "amp.cold.log", "amp.hot.raw"};
     const char *f = dump[k];
-    r[0] = scene_rec("x1.m1", OPFAM_BSIM, f, 10);
+    r[0] = scene_rec(v[0], "x1.m1", OPFAM_BSIM, f, 10);
     r[0].q[OPQ_ID] = 1e-5, r[0].q[OPQ_GM] = 1.5e-4, r[0].q[OPQ_GDS] = 3e-6, r[0].q[OPQ_VGS] = 0.6;
     r[0].q[OPQ_VDS] = k == 2 ? 0.16 : 0.5, r[0].q[OPQ_VBS] = 0, r[0].q[OPQ_VTH] = 0.45, r[0].q[OPQ_VDSAT] = 0.12;
     r[0].q[OPQ_CGG] = 2e-15;
     /* x1.m2: PMOS written with drain and source swapped, strong inversion */
-    r[1] = scene_rec("x1.m2", OPFAM_BSIM, f, 11);
+    r[1] = scene_rec(v[1], "x1.m2", OPFAM_BSIM, f, 11);
     r[1].q[OPQ_ID] = 5e-5, r[1].q[OPQ_GM] = 4e-4, r[1].q[OPQ_GDS] = 5e-6, r[1].q[OPQ_VGS] = -0.2;
     r[1].q[OPQ_VDS] = -0.6, r[1].q[OPQ_VBS] = -0.6, r[1].q[OPQ_VTH] = 0.35, r[1].q[OPQ_VDSAT] = 0.2;
     r[1].q[OPQ_CGG] = 4.5e-15;
     /* x1.m3: 12 mV from leaving saturation, weak gain */
-    r[2] = scene_rec("x1.m3", OPFAM_BSIM, f, 12);
+    r[2] = scene_rec(v[2], "x1.m3", OPFAM_BSIM, f, 12);
     r[2].q[OPQ_ID] = 2e-5, r[2].q[OPQ_GM] = 2.4e-4, r[2].q[OPQ_GDS] = k == 1 ? 4e-5 : 3e-5, r[2].q[OPQ_VGS] = 0.55;
     r[2].q[OPQ_VDS] = k == 1 ? 0.21 : k == 2 ? 0.225 : 0.232, r[2].q[OPQ_VBS] = 0, r[2].q[OPQ_VTH] = 0.42;
     r[2].q[OPQ_VDSAT] = 0.22;
     r[2].q[OPQ_CGG] = 3e-15;
     /* x1.m4: no record */
-    r[3] = scene_rec("unused", OPFAM_BSIM, f, 0);
+    r[3] = scene_rec(v[3], "unused", OPFAM_BSIM, f, 0);
     /* mb5: level 1, m = 4, Meyer capacitances (the ngspice numbers of check-values.md section 5, x4) */
-    r[4] = scene_rec("mb5", OPFAM_MOS1, f, 20);
+    r[4] = scene_rec(v[4], "mb5", OPFAM_MOS1, f, 20);
     r[4].q[OPQ_ID] = 3.96e-5, r[4].q[OPQ_GM] = 2.64e-4, r[4].q[OPQ_GDS] = 3.6e-6, r[4].q[OPQ_VGS] = 0.8;
     r[4].q[OPQ_VDS] = 1.0, r[4].q[OPQ_VBS] = 0, r[4].q[OPQ_VON] = 0.5, r[4].q[OPQ_VDSAT] = 0.3;
     r[4].q[OPQ_CGS] = 1.841676e-14, r[4].q[OPQ_CGD] = 0, r[4].q[OPQ_CGB] = 0;
     /* mtail: off, and no vdsat in the dump */
-    r[5] = scene_rec("mtail_with_a_long_name", OPFAM_BSIM, f, 21);
+    r[5] = scene_rec(v[5], "mtail_with_a_long_name", OPFAM_BSIM, f, 21);
     r[5].q[OPQ_ID] = 3e-13, r[5].q[OPQ_GM] = 1e-11, r[5].q[OPQ_GDS] = 1e-12, r[5].q[OPQ_VGS] = 0.0;
     r[5].q[OPQ_VDS] = 0.9, r[5].q[OPQ_VBS] = 0, r[5].q[OPQ_VTH] = 0.45;
     /* a record for a device the netlist does not have */
-    r[6] = scene_rec("x9.m1", OPFAM_BSIM, f, 22);
+    r[6] = scene_rec(v[6], "x9.m1", OPFAM_BSIM, f, 22);
     r[6].q[OPQ_ID] = 1e-6;
 }
 
@@ -90,7 +92,7 @@ static inline void scene_records(OpRecord *r, int k)
 static inline void scene_corner(Sc *s, int k)
 {
     OpRecord *r = s->recs[k];
-    scene_records(r, k);
+    scene_records(r, s->vals[k], k);
     s->orphans[k][0] = &r[6];
     Joined *j = &s->j[k];
     for (int i = 0; i < NDEV; i++) {

@@ -34,6 +34,7 @@ typedef struct {
     Card cards[MAXDEV];
     Device devs[MAXDEV];
     OpRecord recs[MAXDEV];
+    double vals[MAXDEV][OPQ_COUNT];
     Row rows[MAXDEV];
     Joined j;
     RuleSet *rs;
@@ -66,6 +67,7 @@ static void build(Fx *x, const Spec *s, size_t n, const char *rules)
                               .nf = 1, .card = (uint32_t)i};
         OpRecord *r = &x->recs[i];
         memset(r, 0, sizeof *r);
+        r->q = x->vals[i];
         r->name = s[i].name;
         r->family = OPFAM_BSIM;
         for (int q = 0; q < OPQ_COUNT; q++)
@@ -1027,7 +1029,7 @@ static void test_hier_ngspice(void **state)
                          "sized xb.m2 for: margin >= 0.6V\n";
     assert_int_equal(rule_load_text(rs, "h.rules", rules, sizeof rules - 1, &d), ERR_OK);
     Joined j;
-    JoinOptions jo = {0, 0.5};
+    JoinOptions jo = {0, 0.5, 0};
     assert_int_equal(join_run(&ds, op, rs, &jo, &j, &d), ERR_OK);
     Findings f;
     ChkOptions o = {0, 0};

@@ -149,7 +149,7 @@ static void simulate(Sim *s, const char *cir)
     assert_int_equal(op_read(logp, OPFMT_AUTO, &s->op, &s->d), ERR_OK);
     s->rs = rule_new_defaults(&s->d);
     assert_non_null(s->rs);
-    JoinOptions jo = {0, 0.5};
+    JoinOptions jo = {0, 0.5, 0};
     assert_int_equal(join_run(&s->ds, s->op, s->rs, &jo, &s->j, &s->d), ERR_OK);
     assert_int_equal(s->j.nmatched, s->ds.ndevs);
 }

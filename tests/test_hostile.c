@@ -178,7 +178,7 @@ static int annotate_file(const char *path, const RuleSet *rs, Buf *out, Buf *ori
     Findings fs;
     memset(&jn, 0, sizeof jn);
     memset(&fs, 0, sizeof fs);
-    JoinOptions jo = {0, 0.5};
+    JoinOptions jo = {0, 0.5, 0};
     if (ds.ndevs) {
         assert_int_equal(join_run(&ds, t, rs, &jo, &jn, &d), ERR_OK);
         assert_int_equal(chk_run(rs, &ds, &jn, &fs), ERR_OK);

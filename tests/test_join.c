@@ -33,6 +33,7 @@ static void setup(Fixture *x, const char *const *names, size_t n)
 static void teardown(Fixture *x)
 {
     rule_free(x->rs);
+    op_release_values(&x->t, SIZE_MAX);
     free(x->t.recs);
     str_free(x->t.names);
     arena_free(&x->t.arena);
@@ -69,7 +70,7 @@ static void test_exact_names(void **state)
     rec(&x, "x1.m2", 0);
     rec(&x, "x9.m1", 0); /* no such device */
     Joined j;
-    JoinOptions jo = {0, 0.5};
+    JoinOptions jo = {0, 0.5, 0};
     assert_int_equal(join_run(&x.ds, &x.t, x.rs, &jo, &j, &x.d), ERR_OK);
     assert_int_equal(j.nmatched, 3);
     assert_int_equal(j.norphans, 1);
@@ -93,7 +94,7 @@ static void test_cut_names(void **state)
     rec(&x, "xbuffer_stage_one.xa.m1", 0);
     rec(&x, "xbuffer_stage_one.x", 1); /* fits xa.m1 (which has its own record) and xb.m1 */
     Joined j;
-    JoinOptions jo = {0, 0.5};
+    JoinOptions jo = {0, 0.5, 0};
     assert_int_equal(join_run(&x.ds, &x.t, x.rs, &jo, &j, &x.d), ERR_OK);
     assert_int_equal(j.nmatched, 3);
     assert_ptr_equal(j.rows[1].op, &x.t.recs[2]);
@@ -109,7 +110,7 @@ static void test_ambiguous_cut_name(void **state)
     setup(&x, (const char *[]){"xbuffer_stage_one.xa.m1", "xbuffer_stage_one.xb.m1"}, 2);
     rec(&x, "xbuffer_stage_one.x", 1);
     Joined j;
-    JoinOptions jo = {0, 0.5};
+    JoinOptions jo = {0, 0.5, 0};
     assert_int_equal(join_run(&x.ds, &x.t, x.rs, &jo, &j, &x.d), ERR_INPUT);
     assert_int_equal(x.d.items[0].loc.line, 3);
     assert_non_null(strstr(x.d.items[0].msg, "fits 2 devices"));
@@ -126,7 +127,7 @@ static void test_dump_of_another_netlist(void **state)
     rec(&x, "m2", 0);
     rec(&x, "q7", 0);
     Joined j;
-    JoinOptions jo = {0, 0.5};
+    JoinOptions jo = {0, 0.5, 0};
     assert_int_equal(join_run(&x.ds, &x.t, x.rs, &jo, &j, &x.d), ERR_INPUT);
     assert_non_null(strstr(x.d.items[x.d.n - 1].msg, "only 2 of the netlist's 5 MOSFETs"));
     assert_string_equal(x.d.items[x.d.n - 1].loc.file, "dump.log");
@@ -141,7 +142,7 @@ static void test_devices_without_data(void **state)
     rec(&x, "m1", 0);
     rec(&x, "m3", 0);
     Joined j;
-    JoinOptions jo = {0, 0.5};
+    JoinOptions jo = {0, 0.5, 0};
     assert_int_equal(join_run(&x.ds, &x.t, x.rs, &jo, &j, &x.d), ERR_OK);
     assert_null(j.rows[1].op);
     assert_true(isnan(j.rows[1].fig.gm_id)); /* absent, never zero */
@@ -160,7 +161,7 @@ static void test_dump_multiplier_wins(void **state)
     rec(&x, "x1.m1", 0)->q[OPQ_M] = 3; /* what ngspice 39 simulated */
     rec(&x, "m2", 0)->q[OPQ_M] = 1;
     Joined j;
-    JoinOptions jo = {0, 0.5};
+    JoinOptions jo = {0, 0.5, 0};
     assert_int_equal(join_run(&x.ds, &x.t, x.rs, &jo, &j, &x.d), ERR_OK);
     /* ID/(W*m) = 10 uA / (2 um * 3) with the simulator's m */
     assert_close(j.rows[0].fig.id_w, 1e-5 / (2e-6 * 3), 1e-12);

@@ -767,7 +767,7 @@ static void test_join_from_tables(void **state)
     ref_dir_free(dir);
     RuleSet *rs = rule_new_defaults(&d);
     assert_non_null(rs);
-    JoinOptions jo = {0, 0.5};
+    JoinOptions jo = {0, 0.5, 0};
     Joined a, b;
     assert_int_equal(join_run(&ds, of, rs, &jo, &a, &d), ERR_OK);
     assert_int_equal(join_run_tables(&ds, on, rs, &jo, tables, 2, &b, &d), ERR_OK);

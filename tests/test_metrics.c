@@ -8,10 +8,12 @@
 
 #define PI 3.14159265358979323846
 
-static OpRecord blank(OpFamily fam)
+/* A record with every value absent; its values live in v, OPQ_COUNT doubles of the caller's. */
+static OpRecord blank(double *v, OpFamily fam)
 {
     OpRecord r;
     memset(&r, 0, sizeof r);
+    r.q = v;
     r.family = fam;
     for (int q = 0; q < OPQ_COUNT; q++)
         r.q[q] = NAN;
@@ -150,7 +152,8 @@ static void test_square_law(void **state)
     double gm = sqrt(2 * ucox * wl * id), vov = sqrt(2 * id / (ucox * wl));
     assert_close(gm, 6.3246e-4, 2e-5);
     assert_close(vov, 0.31623, 2e-5);
-    OpRecord r = blank(OPFAM_UNKNOWN);
+    double rv[OPQ_COUNT];
+    OpRecord r = blank(rv, OPFAM_UNKNOWN);
     r.q[OPQ_ID] = id;
     r.q[OPQ_GM] = gm;
     r.q[OPQ_VGS] = 0.5 + vov;
@@ -203,7 +206,8 @@ static const SignRow sign_rows[] = {
 
 static void check_sign_row(const SignRow *s, OpFamily fam)
 {
-    OpRecord r = blank(fam);
+    double rv[OPQ_COUNT];
+    OpRecord r = blank(rv, fam);
     r.q[OPQ_ID] = s->id;
     r.q[OPQ_VGS] = s->vgs;
     r.q[OPQ_VDS] = s->vds;
@@ -252,7 +256,8 @@ static void test_signs_body(void **state)
     /* NMOS with its source 0.3 V above the bulk, written swapped: pins D=0.3+1.2 ... vbs measured from
        the written source (the real drain) is -1.5, vds -1.2: real vbs = -1.5 - (-1.2) = -0.3 (recipe,
        ngspice-op-data.md section 4), so VSB = 0.3 */
-    OpRecord r = blank(OPFAM_BSIM);
+    double rv[OPQ_COUNT];
+    OpRecord r = blank(rv, OPFAM_BSIM);
     r.q[OPQ_VGS] = -0.4;
     r.q[OPQ_VDS] = -1.2;
     r.q[OPQ_VBS] = -1.5;
@@ -274,7 +279,8 @@ static void test_cgg(void **state)
     (void)state;
     Figures f;
     /* BSIM4 cgs/cgd/cgb are dQg/dVx, negative: Cgg = -(cgs+cgd+cgb) (ngspice-op-data.md section 1) */
-    OpRecord r = blank(OPFAM_BSIM);
+    double rv[OPQ_COUNT];
+    OpRecord r = blank(rv, OPFAM_BSIM);
     r.q[OPQ_CGS] = -1.32984e-15;
     r.q[OPQ_CGD] = -0.2e-15;
     r.q[OPQ_CGB] = -0.1e-15;
@@ -287,7 +293,8 @@ static void test_cgg(void **state)
     assert_close(f.cgg, 1.64886e-15, 1e-12);
     assert_false(f.cgg_summed);
     /* a partial sum would overstate fT: absent instead */
-    OpRecord p = blank(OPFAM_MOS1);
+    double pv[OPQ_COUNT];
+    OpRecord p = blank(pv, OPFAM_MOS1);
     p.q[OPQ_CGS] = 4.6e-15;
     p.q[OPQ_GM] = 1e-4;
     fig_normalize(&p, MOS_NMOS, &f);
@@ -303,7 +310,8 @@ static void test_overlap(void **state)
     Model bsim = {.name = "nch", .type = MOS_NMOS, .level = 14, .cgso = 1e-9, .cgdo = 2e-9, .cgbo = NAN};
     Model mos1 = {.name = "n1", .type = MOS_NMOS, .level = 1, .cgso = 1e-9, .cgdo = 1e-9, .cgbo = NAN};
     Model bare = {.name = "nx", .type = MOS_NMOS, .level = 54, .cgso = NAN, .cgdo = NAN, .cgbo = NAN};
-    OpRecord r = blank(OPFAM_BSIM);
+    double rv[OPQ_COUNT];
+    OpRecord r = blank(rv, OPFAM_BSIM);
     r.q[OPQ_GM] = 6.6e-5;
     r.q[OPQ_CGG] = 1.64886e-15;
     Device d = dev(MOS_NMOS, 1e-6, 0.2e-6, 4);
@@ -337,9 +345,9 @@ static void test_overlap(void **state)
 
 /* ---- level-1 cross-check (c_mult.cir device mb5, ngspice 39) ---- */
 
-static void level1_record(OpRecord *r, double m)
+static void level1_record(OpRecord *r, double *v, double m)
 {
-    *r = blank(OPFAM_MOS1);
+    *r = blank(v, OPFAM_MOS1);
     /* ngspice printed: id 9.9e-06, gm 6.6e-05, gds 9e-07, vdsat 0.3, von 0.5, cgs 4.60419e-15, cgd 0,
        cgb 0 (check-values.md sections 5-6); totals scale with m (ngspice-op-data.md section 5) */
     r->q[OPQ_ID] = 9.9e-6 * m;
@@ -360,7 +368,8 @@ static void test_level1(void **state)
     (void)state;
     for (int m = 1; m <= 4; m += 3) {
         OpRecord r;
-        level1_record(&r, m);
+        double rv[OPQ_COUNT];
+        level1_record(&r, rv, m);
         Device d = dev(MOS_NMOS, 1e-6, 1e-6, m);
         Figures f;
         fig_normalize(&r, d.type, &f);
@@ -415,7 +424,8 @@ static void test_region(void **state)
     (void)state;
     for (size_t i = 0; i < sizeof region_rows / sizeof region_rows[0]; i++) {
         const RegionRow *t = &region_rows[i];
-        OpRecord r = blank(OPFAM_BSIM);
+        double rv[OPQ_COUNT];
+        OpRecord r = blank(rv, OPFAM_BSIM);
         r.q[OPQ_ID] = t->id;
         r.q[OPQ_GM] = t->gm;
         r.q[OPQ_VDS] = t->vds;
@@ -428,7 +438,8 @@ static void test_region(void **state)
         assert_string_equal(fig_region_name[f.region], fig_region_name[t->want]);
     }
     /* density uses W*m: 4 copies of 1e-10 A at W = L = 1u are 1e-10 A per square each: not off */
-    OpRecord r = blank(OPFAM_BSIM);
+    double rv[OPQ_COUNT];
+    OpRecord r = blank(rv, OPFAM_BSIM);
     r.q[OPQ_ID] = 4.4e-10;
     r.q[OPQ_GM] = 1e-8;
     r.q[OPQ_VDS] = 1.0;
@@ -450,7 +461,8 @@ static void test_region(void **state)
 static void test_no_division_by_zero(void **state)
 {
     (void)state;
-    OpRecord r = blank(OPFAM_MOS1);
+    double rv[OPQ_COUNT];
+    OpRecord r = blank(rv, OPFAM_MOS1);
     /* an off level-1 device prints gm = gds = 0 (m_edge.cir); a saturated lambda=0 one gds 0 */
     r.q[OPQ_ID] = 0.0;
     r.q[OPQ_GM] = 0.0;
@@ -556,7 +568,8 @@ static void test_signs_ngspice(void **state)
     Figures f[9];
     for (int k = 1; k <= 8; k++) {
         char nm[32];
-        OpRecord r = blank(k <= 4 ? OPFAM_BSIM : OPFAM_MOS1);
+        double rv[OPQ_COUNT];
+        OpRecord r = blank(rv, k <= 4 ? OPFAM_BSIM : OPFAM_MOS1);
         static const char *const qn[] = {"id", "vgs", "vds", "vbs", "vdsat"};
         static const OpQty qq[] = {OPQ_ID, OPQ_VGS, OPQ_VDS, OPQ_VBS, OPQ_VDSAT};
         for (int q = 0; q < 5; q++) {
@@ -610,7 +623,8 @@ static void test_level1_ngspice(void **state)
     if (!tu_have_ngspice())
         skip();
     char *out = run_ngspice("level1.cir", level1_deck, sizeof level1_deck - 1);
-    OpRecord r = blank(OPFAM_MOS1);
+    double rv[OPQ_COUNT];
+    OpRecord r = blank(rv, OPFAM_MOS1);
     static const char *const qn[] = {"id", "gm", "gds", "vgs", "vds", "vbs", "von", "vdsat", "cgs", "cgd", "cgb"};
     static const OpQty qq[] = {OPQ_ID, OPQ_GM, OPQ_GDS, OPQ_VGS, OPQ_VDS, OPQ_VBS,
                                OPQ_VON, OPQ_VDSAT, OPQ_CGS, OPQ_CGD, OPQ_CGB};

@@ -113,7 +113,7 @@ static void check_circuit(const char *dir, const char *cir)
             diag_print(&d, stderr, 0, DIAG_NOTE);
         assert_int_equal(rc, ERR_OK);
         Joined j;
-        JoinOptions jo = {0, 0.5};
+        JoinOptions jo = {0, 0.5, 0};
         rc = join_run(&ds, t, rs, &jo, &j, &d);
         if (rc != ERR_OK)
             diag_print(&d, stderr, 0, DIAG_NOTE);

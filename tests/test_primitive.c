@@ -633,7 +633,7 @@ static void check_case(const PdkCase *pc)
     RuleSet *rs = rule_new_defaults(&d);
     assert_non_null(rs);
     Joined j;
-    JoinOptions jo = {0, 0.5};
+    JoinOptions jo = {0, 0.5, 0};
     rc = join_run(&ds, t, rs, &jo, &j, &d);
     if (rc != ERR_OK)
         diag_print(&d, stderr, 0, DIAG_NOTE);
