@@ -34,23 +34,24 @@ typedef struct {
     uint32_t card_file, card_line;
 } Model;
 
-/* One MOSFET instance after flattening. */
+/* One MOSFET instance after flattening. The fields are in the order that leaves no padding: a
+ * large design holds millions of these. */
 typedef struct {
     const char *name;    /* canonical hierarchical name, interned, lower case: "x1.xamp.m3" */
     const char *model;   /* model name as written on the card, interned ("nch"); bins resolved to base */
     const Model *mdl;    /* the resolved .model card, NULL when absent (type then MOS_UNKNOWN) */
-    MosType type;
     double w, l;         /* metres, as written on the card after evaluation (W is total over fingers) */
     double m;            /* multiplier as ngspice 39 computes it: the card's m, or the calling X card's m
                             where ngspice replaces it (not a product; flatten.c, mult_flags) */
     double nf;           /* fingers, 1 when not given */
     const char *nets[4]; /* d, g, s, b: hierarchical node names, interned ("x1.tail", "vdd", "0") */
     const char *cell;    /* subcircuit the card stands in, interned; NULL at top level */
-    uint32_t card;       /* index into Design.cards */
     /* added for PDK netlists (primitive cells, --top/--prefix); zero for a plain M card */
     const char *simname; /* canonical name of the device's record in the dump when it differs from
                             name: a primitive's inner M card ("xm4.mn"), under the testbench prefix
                             with --prefix; NULL: name */
+    uint32_t card;       /* index into Design.cards */
+    MosType type;
     uint8_t prim;        /* DEV_MCARD, DEV_PRIM or DEV_BARE */
 } Device;
 

@@ -43,8 +43,10 @@ typedef struct {
 typedef struct {
     int add_overlap;            /* add the model cards' overlap capacitance to Cgg (fT) */
     double min_match_fraction;  /* below this fraction of devices matched, the dump is rejected (0.5) */
-    int release_values;         /* the dump's values are read for the last time: join hands them back
-                                   as it goes (op_release_values), and the records keep no q */
+    int consume;                /* nothing reads the dump after the join: join hands back its name
+                                   index once the records are found (op_release_index) and their
+                                   values once the rows hold the figures (op_release_values; the
+                                   records keep their names, not their q) */
 } JoinOptions;
 
 /* Match every device of ds to t. A dump that matches fewer than opt->min_match_fraction of the

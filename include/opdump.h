@@ -89,14 +89,16 @@ void op_free(OpTable *t);
  * The pointer is valid until the next op_add on t (the array may move). */
 OpRecord *op_add(OpTable *t, const char *name, size_t n, SrcLoc loc, bool merge, DiagList *d);
 
-/* Records per block of values: 4096 records of OPQ_COUNT doubles are 144 pages. */
+/* Records per block of values (4096 records of OPQ_COUNT doubles are 144 pages): blocks, not one
+ * array, so that the values neither move as the table grows nor stay in the process once given back. */
 #define OP_VBLOCK 4096
 
-/* Give back the values of the records before index upto, in whole blocks (their q become NULL), for
- * a reader that has read them for the last time: join reads a large dump's records in order and
- * hands their values back as it goes, so that they and the rows made of them are not both held
- * whole. upto >= t->n gives back every block and the block list. */
-void op_release_values(OpTable *t, size_t upto);
+/* Give back the records' values (their q become NULL), for a reader that has read them for the last
+ * time: join, once the rows hold the figures, so that the reports do not run beside them. */
+void op_release_values(OpTable *t);
+
+/* Give back the name index (op_find finds nothing after it); the records keep their names. */
+void op_release_index(OpTable *t);
 
 /* Set quantity q of r to v; a different value already there is a conflict: an error at loc. Setting
  * NaN does nothing (absent stays absent). ERR_OK or ERR_INPUT. */

@@ -124,35 +124,14 @@ int join_run(const Design *ds, OpTable *t, const RuleSet *rs, const JoinOptions 
     return join_run_tables(ds, t, rs, opt, NULL, 0, out, d);
 }
 
-/* The row of device i from its record r: normalized, the dump's m where it differs, overlap, figures.
- * Returns the dump's m when it differs from the netlist's, else NaN. */
-static double one_row(const Design *ds, const RuleSet *rs, const JoinOptions *opt, size_t i, const OpRecord *r,
-                      Row *row)
-{
-    const Device *dv = &ds->devs[i];
-    fig_normalize(r, dv->type, &row->fig);
-    /* The simulator's own m wins where the dump gives it: ngspice 39 does not multiply m through
-       subcircuit levels, so the netlist's product can differ from what ran. */
-    Device sim = *dv;
-    double dm = r->q[OPQ_M], differs = NAN;
-    if (!isnan(dm) && dm > 0 && fabs(dm - dv->m) > 1e-9 * dv->m)
-        sim.m = differs = dm;
-    if (opt->add_overlap)
-        fig_add_overlap(&row->fig, &sim);
-    fig_derive(&row->fig, &sim, rule_bands(rs, dv, NULL));
-    return differs;
-}
-
 int join_run_tables(const Design *ds, OpTable *t, const RuleSet *rs, const JoinOptions *opt,
                     const Lut *const *tables, size_t ntables, Joined *out, DiagList *d)
 {
     memset(out, 0, sizeof *out);
     const OpRecord **by_dev = calloc(ds->ndevs ? ds->ndevs : 1, sizeof *by_dev);
-    /* the devices of each record (usually one), by a counting sort: record k has
-       list[start[k] .. start[k+1]), in netlist order */
-    uint32_t *start = calloc(t->n + 2, sizeof *start), *list = NULL;
+    unsigned char *used = calloc(t->n ? t->n : 1, 1);
     out->rows = calloc(ds->ndevs ? ds->ndevs : 1, sizeof *out->rows);
-    if (!by_dev || !start || !out->rows || ds->ndevs >= UINT32_MAX)
+    if (!by_dev || !used || !out->rows)
         goto nomem;
     {
         const char **names = malloc((ds->ndevs ? ds->ndevs : 1) * sizeof *names);
@@ -166,69 +145,60 @@ int join_run_tables(const Design *ds, OpTable *t, const RuleSet *rs, const JoinO
     int rc = match_truncated(ds, t, by_dev, d);
     if (rc != ERR_OK)
         goto fail;
+    if (opt->consume)
+        op_release_index(t); /* before the rows take its room */
 
+    size_t nm_differ = 0;
+    const Device *first_m = NULL;
     out->n = ds->ndevs;
     out->overlap = opt->add_overlap;
-    size_t with = 0;
     for (size_t i = 0; i < ds->ndevs; i++) {
         Row *row = &out->rows[i];
-        row->dev = &ds->devs[i];
-        row->op = by_dev[i];
-        row->suggest_w = row->suggest_gmid = NAN; /* check --table: no width suggestion yet (size_suggest) */
-        if (row->op)
-            start[row->op - t->recs + 2]++, with++;
-        else
-            fig_normalize(NULL, ds->devs[i].type, &row->fig);
-    }
-    if (!(list = malloc((with ? with : 1) * sizeof *list)))
-        goto nomem;
-    for (size_t k = 2; k < t->n + 2; k++)
-        start[k] += start[k - 1];
-    for (size_t i = 0; i < ds->ndevs; i++) /* start[k + 1] fills record k's run, ending as its end */
-        if (by_dev[i])
-            list[start[by_dev[i] - t->recs + 1]++] = (uint32_t)i;
-    free(by_dev);
-    by_dev = NULL;
-
-    /* In the dump's order, so that the values of the records read are handed back as the rows
-       fill (opt->release_values): the records and the rows are not both held whole. */
-    size_t nm_differ = 0, first_m = SIZE_MAX;
-    double first_dm = NAN;
-    for (size_t k = 0; k < t->n; k++) {
+        const Device *dv = &ds->devs[i];
 #if defined(__GNUC__)
-        /* the rows and devices come in the netlist's order, not the dump's: ask for the ones a few
-           records ahead, so that their cache misses overlap instead of following one another */
-        if (k + 8 < t->n && start[k + 8] < start[k + 9]) {
-            uint32_t ahead = list[start[k + 8]];
-            __builtin_prefetch(&out->rows[ahead], 1);
-            __builtin_prefetch((const char *)&out->rows[ahead] + 64, 1);
-            __builtin_prefetch((const char *)&out->rows[ahead] + 128, 1);
-            __builtin_prefetch(&ds->devs[ahead]);
-            __builtin_prefetch((const char *)&ds->devs[ahead] + 64);
+        /* the records come in the dump's order, not the netlist's: ask for the ones a few devices
+           ahead, so that their cache misses overlap instead of following one another */
+        if (i + 8 < ds->ndevs && by_dev[i + 8]) {
+            const char *ahead = (const char *)by_dev[i + 8];
+            __builtin_prefetch(ahead);
+            __builtin_prefetch(ahead + 64);
+            __builtin_prefetch(ahead + 128);
         }
 #endif
-        const OpRecord *r = &t->recs[k];
-        if (start[k] == start[k + 1] && BUF_PUSH(out->orphans, out->norphans, out->orphans_cap, r) != ERR_OK)
-            goto nomem;
-        for (uint32_t e = start[k]; e < start[k + 1]; e++) {
-            size_t i = list[e];
-            out->nmatched++;
-            double dm = one_row(ds, rs, opt, i, r, &out->rows[i]);
-            if (isnan(dm))
-                continue;
-            if (nm_differ++ == 0 || i < first_m) {
-                first_m = i;
-                first_dm = dm;
-            }
+        row->dev = dv;
+        row->op = by_dev[i];
+        if (!row->op) {
+            fig_normalize(NULL, dv->type, &row->fig);
+            continue;
         }
-        if (opt->release_values && (k + 1) % OP_VBLOCK == 0)
-            op_release_values(t, k + 1);
+        used[row->op - t->recs] = 1;
+        out->nmatched++;
+        fig_normalize(row->op, dv->type, &row->fig);
+        /* The simulator's own m wins where the dump gives it: ngspice 39 does not multiply m
+           through subcircuit levels, so the netlist's product can differ from what ran. */
+        Device sim = *dv;
+        double dm = row->op->q[OPQ_M];
+        if (!isnan(dm) && dm > 0 && fabs(dm - dv->m) > 1e-9 * dv->m) {
+            if (!nm_differ++)
+                first_m = dv;
+            sim.m = dm;
+        }
+        if (opt->add_overlap)
+            fig_add_overlap(&row->fig, &sim);
+        fig_derive(&row->fig, &sim, rule_bands(rs, dv, NULL));
     }
-    if (opt->release_values)
-        op_release_values(t, SIZE_MAX);
-    free(start);
-    free(list);
-    start = list = NULL;
+    for (size_t i = 0; i < t->n; i++) {
+        if (used[i])
+            continue;
+        if (BUF_PUSH(out->orphans, out->norphans, out->orphans_cap, &t->recs[i]) != ERR_OK)
+            goto nomem;
+    }
+    /* the message below wants the dump's m of the first device whose m differs */
+    double first_dm = first_m ? by_dev[first_m - ds->devs]->q[OPQ_M] : NAN;
+    if (opt->consume)
+        op_release_values(t); /* the rows hold what the reports need */
+    for (size_t i = 0; i < out->n; i++) /* check --table: no width suggestion yet (size_suggest) */
+        out->rows[i].suggest_w = out->rows[i].suggest_gmid = NAN;
     if (ntables && (rc = fill_from_tables(ds, t, rs, opt, tables, ntables, out, d)) != ERR_OK)
         goto fail;
     double need = opt->min_match_fraction > 0 ? opt->min_match_fraction : 0.5;
@@ -247,14 +217,15 @@ int join_run_tables(const Design *ds, OpTable *t, const RuleSet *rs, const JoinO
                  "m=%g, dump m=%g); the figures use the dump's m, which is what was simulated (the netlist "
                  "reader already follows ngspice's m= rule, so the dump may come from another version of "
                  "the netlist)",
-                 nm_differ, ds->devs[first_m].name, ds->devs[first_m].m, first_dm);
+                 nm_differ, first_m->name, first_m->m, first_dm);
+    free(by_dev);
+    free(used);
     return ERR_OK;
 nomem:
     rc = diag_nomem(d);
 fail:
     free(by_dev);
-    free(start);
-    free(list);
+    free(used);
     join_free(out);
     return rc;
 }

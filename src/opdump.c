@@ -269,22 +269,15 @@ OpRecord *op_add(OpTable *t, const char *name, size_t n, SrcLoc loc, bool merge,
     return r;
 }
 
-void op_release_values(OpTable *t, size_t upto)
+void op_release_values(OpTable *t)
 {
-    size_t all = upto >= t->n, nb = all ? t->nvblock : upto / OP_VBLOCK;
-    for (size_t b = 0; b < nb && b < t->nvblock; b++) {
-        if (!t->vblock[b])
-            continue;
+    for (size_t b = 0; b < t->nvblock; b++)
         mem_pages_free(t->vblock[b], VBLOCK_BYTES);
-        t->vblock[b] = NULL;
-        for (size_t i = b * OP_VBLOCK; i < t->n && i < (b + 1) * OP_VBLOCK; i++)
-            t->recs[i].q = NULL;
-    }
-    if (all) {
-        free(t->vblock);
-        t->vblock = NULL;
-        t->nvblock = t->capvblock = 0;
-    }
+    free(t->vblock);
+    t->vblock = NULL;
+    t->nvblock = t->capvblock = 0;
+    for (size_t i = 0; i < t->n; i++)
+        t->recs[i].q = NULL;
 }
 
 int op_set(OpRecord *r, OpQty q, double v, SrcLoc loc, DiagList *d)
@@ -327,9 +320,15 @@ const OpRecord *op_find(const OpTable *t, const char *name)
     return r;
 }
 
+void op_release_index(OpTable *t)
+{
+    str_free(t->names);
+    t->names = NULL;
+}
+
 void op_find_all(const OpTable *t, const char *const *names, size_t n, const OpRecord **out)
 {
-    if (!t) {
+    if (!t || !t->names) {
         for (size_t i = 0; i < n; i++)
             out[i] = NULL;
         return;
@@ -467,7 +466,7 @@ void op_free(OpTable *t)
     src_free(&t->file);
     str_free(t->names);
     arena_free(&t->arena);
-    op_release_values(t, SIZE_MAX);
+    op_release_values(t);
     free(t->recs);
     free(t->node_name);
     free(t->node_v);

@@ -407,7 +407,7 @@ int run_check(const Options *o, FILE *out, int color, DiagList *d)
             goto done;
         }
     stage(&st, "bind");
-    JoinOptions jo = {o->add_overlap, 0.5, 1}; /* nothing reads the dump's values after the join */
+    JoinOptions jo = {o->add_overlap, 0.5, 1}; /* nothing reads the dump after the join */
     for (size_t k = 0; k < ncr; k++) {
         if ((rc = join_run_tables(&ds, cr[k].op, rs, &jo, (const struct Lut *const *)luts, o->ntables, &cr[k].jn,
                                   d)) != ERR_OK ||
@@ -633,7 +633,7 @@ static int run_explain(const Options *o, FILE *out, DiagList *d)
         goto fail;
     if (o->op) {
         BindOptions bo = {o->prefix, o->top != NULL};
-        JoinOptions jo = {o->add_overlap, 0.5, 1}; /* nothing reads the dump's values after the join */
+        JoinOptions jo = {o->add_overlap, 0.5, 1}; /* nothing reads the dump after the join */
         if ((rc = op_read(o->op, o->op_format, &op, d)) != ERR_OK || (rc = bind_run(&ds, op, &bo, NULL, d)) != ERR_OK ||
             (rc = join_run(&ds, op, rs, &jo, &jn, d)) != ERR_OK ||
             (rc = chk_evaluate(rs, &in, &ds, &jn, &(ChkOptions){chk_today(), 0}, &fs, d)) != ERR_OK)

@@ -33,7 +33,7 @@ static void setup(Fixture *x, const char *const *names, size_t n)
 static void teardown(Fixture *x)
 {
     rule_free(x->rs);
-    op_release_values(&x->t, SIZE_MAX);
+    op_release_values(&x->t);
     free(x->t.recs);
     str_free(x->t.names);
     arena_free(&x->t.arena);
@@ -80,6 +80,39 @@ static void test_exact_names(void **state)
     assert_close(j.rows[0].fig.gm_id, 15.0, 1e-12);
     assert_close(j.rows[0].fig.margin, 0.5, 1e-12);
     assert_int_equal(x.d.nwarnings, 1); /* the orphan record */
+    join_free(&j);
+    teardown(&x);
+}
+
+/* A join that consumes the dump gives the same rows and orphans, and leaves the records their names
+ * and locations only: the reports read the rows, never the dump's values again. */
+static void test_consuming_join(void **state)
+{
+    (void)state;
+    Fixture x;
+    setup(&x, (const char *[]){"m1", "x1.m2"}, 2);
+    rec(&x, "x1.m2", 0);
+    rec(&x, "m1", 0)->q[OPQ_M] = 2; /* the dump's m differs: its value is quoted after the release */
+    rec(&x, "x9.m1", 0);
+    Joined j;
+    JoinOptions jo = {0, 0.5, 1};
+    assert_int_equal(join_run(&x.ds, &x.t, x.rs, &jo, &j, &x.d), ERR_OK);
+    assert_int_equal(j.nmatched, 2);
+    assert_int_equal(j.norphans, 1);
+    assert_string_equal(j.orphans[0]->name, "x9.m1");
+    assert_int_equal(j.orphans[0]->loc.line, 3);
+    assert_string_equal(j.rows[0].op->name, "m1");
+    /* gm/ID 150 uS / 10 uA = 15 /V (definition); ID/(W*m) with the dump's m = 2: 10 uA / 4 um */
+    assert_close(j.rows[0].fig.gm_id, 15.0, 1e-12);
+    assert_close(j.rows[0].fig.id_w, 1e-5 / (2e-6 * 2), 1e-12);
+    assert_close(j.rows[1].fig.margin, 0.5, 1e-12);
+    for (size_t i = 0; i < x.t.n; i++)
+        assert_null(x.t.recs[i].q);
+    assert_null(op_find(&x.t, "m1"));
+    int quoted = 0;
+    for (size_t i = 0; i < x.d.n; i++)
+        quoted |= strstr(x.d.items[i].msg, "dump m=2") != NULL;
+    assert_true(quoted);
     join_free(&j);
     teardown(&x);
 }
@@ -176,6 +209,7 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_exact_names),
+        cmocka_unit_test(test_consuming_join),
         cmocka_unit_test(test_cut_names),
         cmocka_unit_test(test_ambiguous_cut_name),
         cmocka_unit_test(test_dump_of_another_netlist),
