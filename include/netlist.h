@@ -152,8 +152,8 @@ struct NlSubckt {
     size_t capparams;
     uint32_t ndefaults;
     StrMap parammap;      /* name -> index of its last definition */
-    NlMos *mos;
-    size_t nmos, capmos;
+    NlMos **mos;          /* the M cards, in blocks that never move (nl_mos) */
+    size_t nmos, capmos0, nmosblk, capmosblk;
     NlInst *inst;
     size_t ninst, capinst;
     StrMap subs;          /* subcircuits defined inside: name -> index in Netlist.subs */
@@ -232,6 +232,24 @@ typedef struct {
 
 /* A located error or warning at byte off of file (span: columns to underline). Errors are counted in
  * nl->nerrors. Return the diag_add status. */
+/* A definition's M cards sit in blocks of NLMOS_BLOCK (the first grows up to that size), so that
+ * flattening can hand back the top level's blocks as their cards become devices: at a million cards
+ * they and the devices made of them are not both held whole. */
+#define NLMOS_BLOCK 4096
+
+static inline NlMos *nl_mos(const NlSubckt *s, size_t i)
+{
+    return &s->mos[i / NLMOS_BLOCK][i % NLMOS_BLOCK];
+}
+
+/* Append a copy of m to s's M cards: ERR_OK or ERR_NOMEM. */
+int nl_mos_push(NlSubckt *s, const NlMos *m);
+/* Give back the blocks holding only cards before index upto (never the first block); those cards
+ * must not be read again. */
+void nl_mos_release(NlSubckt *s, size_t upto);
+/* Free every block. */
+void nl_mos_free(NlSubckt *s);
+
 int nl_error(Netlist *nl, uint32_t file, size_t off, uint32_t span, const char *fmt, ...) PRINTF_LIKE(5, 6);
 int nl_warn(Netlist *nl, uint32_t file, size_t off, uint32_t span, const char *fmt, ...) PRINTF_LIKE(5, 6);
 

@@ -394,7 +394,7 @@ static void resolve_models(Flat *f, NlSubckt *s)
 {
     Netlist *nl = f->nl;
     for (size_t i = 0; i < s->nmos; i++) {
-        NlMos *m = &s->mos[i];
+        NlMos *m = nl_mos(s, i);
         m->fam = find_model(s, m->model);
         const Card *c = &nl->ds->cards[m->card];
         size_t off = c->start + m->model_off;
@@ -862,7 +862,9 @@ static int emit(Flat *f, uint32_t fi)
     Design *ds = f->ds;
     NlSubckt *def = f->fr[fi].def;
     for (size_t i = 0; i < def->nmos; i++) {
-        NlMos *mm = &def->mos[i];
+        if (fi == 0 && i % NLMOS_BLOCK == 0)
+            nl_mos_release(def, i); /* the top level is emitted once: its cards behind are devices now */
+        NlMos *mm = nl_mos(def, i);
         if (ds->ndevs >= f->capdevs)
             return ERR_OK; /* not reached: the count was made beforehand */
         Device *dv = &ds->devs[ds->ndevs++];

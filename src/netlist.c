@@ -13,6 +13,7 @@
 #include "buf.h"
 #include "flatten.h"
 #include "lex.h"
+#include "memhint.h"
 #include "source.h"
 
 #define DEFAULT_MAX_DEVICES 50000000u
@@ -665,7 +666,7 @@ static int card_mos(Parser *ps, uint32_t file, const LexLine *ln, size_t anchor)
     }
     if (bad)
         return ERR_INPUT;
-    if (BUF_PUSH(s->mos, s->nmos, s->capmos, m) != ERR_OK)
+    if (nl_mos_push(s, &m) != ERR_OK)
         return nomem(ps);
     return ERR_OK;
 }
@@ -1498,9 +1499,9 @@ static int check_duplicates(Parser *ps)
             NameRef *a = malloc(n * sizeof *a);
             if (!a)
                 return nomem(ps);
-#define NAME_OF(r) (kind == 0 ? s->mos[(r).idx].name : s->inst[(r).idx].name)
+#define NAME_OF(r) (kind == 0 ? nl_mos(s, (r).idx)->name : s->inst[(r).idx].name)
             for (size_t i = 0; i < n; i++) {
-                const char *nm = kind == 0 ? s->mos[i].name : s->inst[i].name;
+                const char *nm = kind == 0 ? nl_mos(s, i)->name : s->inst[i].name;
                 a[i] = (NameRef){(uintptr_t)str_hash(nm, strlen(nm)), (uint32_t)i};
             }
             if (radix_sort(a, n) != ERR_OK) {
@@ -1522,10 +1523,10 @@ static int check_duplicates(Parser *ps)
                 uint32_t file, line;
                 size_t off;
                 if (kind == 0) {
-                    const Card *c = &ds->cards[s->mos[a[i].idx].card];
+                    const Card *c = &ds->cards[nl_mos(s, a[i].idx)->card];
                     file = c->file;
                     off = card_body(ds, c);
-                    line = ds->cards[s->mos[a[first].idx].card].line;
+                    line = ds->cards[nl_mos(s, a[first].idx)->card].line;
                 } else {
                     const NlInst *x = &s->inst[a[i].idx], *x0 = &s->inst[a[first].idx];
                     file = x->file;
@@ -1544,6 +1545,52 @@ static int check_duplicates(Parser *ps)
 
 /* ---- load and free --------------------------------------------------------------------------- */
 
+#define MOSBLK_BYTES ((size_t)NLMOS_BLOCK * sizeof(NlMos))
+
+int nl_mos_push(NlSubckt *s, const NlMos *m)
+{
+    size_t b = s->nmos / NLMOS_BLOCK, k = s->nmos % NLMOS_BLOCK;
+    if (b == 0) { /* the first block grows, so that a small subcircuit costs little */
+        if (!s->nmosblk) {
+            if (buf_grow_array((void **)&s->mos, &s->capmosblk, 1, sizeof *s->mos) != ERR_OK)
+                return ERR_NOMEM;
+            s->mos[0] = NULL;
+            s->nmosblk = 1;
+        }
+        if (buf_grow_array((void **)&s->mos[0], &s->capmos0, k + 1, sizeof **s->mos) != ERR_OK)
+            return ERR_NOMEM;
+    } else if (b >= s->nmosblk) { /* the others are whole blocks of pages, handed back whole */
+        NlMos *blk = mem_pages(MOSBLK_BYTES);
+        if (!blk || buf_grow_array((void **)&s->mos, &s->capmosblk, b + 1, sizeof *s->mos) != ERR_OK) {
+            mem_pages_free(blk, MOSBLK_BYTES);
+            return ERR_NOMEM;
+        }
+        s->mos[s->nmosblk++] = blk;
+    }
+    s->mos[b][k] = *m;
+    s->nmos++;
+    return ERR_OK;
+}
+
+void nl_mos_release(NlSubckt *s, size_t upto)
+{
+    for (size_t b = 1; b < s->nmosblk && (b + 1) * NLMOS_BLOCK <= upto; b++) {
+        mem_pages_free(s->mos[b], MOSBLK_BYTES);
+        s->mos[b] = NULL;
+    }
+}
+
+void nl_mos_free(NlSubckt *s)
+{
+    if (s->nmosblk)
+        free(s->mos[0]);
+    for (size_t b = 1; b < s->nmosblk; b++)
+        mem_pages_free(s->mos[b], MOSBLK_BYTES);
+    free(s->mos);
+    s->mos = NULL;
+    s->nmos = s->capmos0 = s->nmosblk = s->capmosblk = 0;
+}
+
 static void free_subckt(NlSubckt *s)
 {
     if (!s)
@@ -1552,7 +1599,7 @@ static void free_subckt(NlSubckt *s)
     strmap_free(&s->nodemap);
     free(s->params);
     strmap_free(&s->parammap);
-    free(s->mos);
+    nl_mos_free(s);
     free(s->inst);
     strmap_free(&s->subs);
     strmap_free(&s->models);
