@@ -3,11 +3,12 @@
 #include "join.h"
 
 #include <math.h>
+#include <pthread.h>
+#include <stdlib.h>
+#include <string.h>
 
 #include "buf.h"
 #include "lut.h"
-#include <stdlib.h>
-#include <string.h>
 
 #define JOIN_NAMES_LISTED 5
 
@@ -124,6 +125,87 @@ int join_run(const Design *ds, OpTable *t, const RuleSet *rs, const JoinOptions 
     return join_run_tables(ds, t, rs, opt, NULL, 0, out, d);
 }
 
+/* One half of the devices, for a stage of the join that treats each device alone: the lookup of the
+ * records, or the rows. */
+typedef struct {
+    const Design *ds;
+    const RuleSet *rs;
+    const JoinOptions *opt;
+    const OpRecord **by_dev;
+    Row *rows;
+    size_t from, to;
+    const OpTable *t;           /* find_records: the dump */
+    size_t nmatched, nm_differ; /* fill_rows: what it found */
+    const Device *first_m;      /* fill_rows: the first device whose dump m differs */
+    const char **names;         /* find_records: the record name of every device */
+} RowJob;
+
+static void *find_records(void *arg)
+{
+    RowJob *j = arg;
+    op_find_all(j->t, j->names + j->from, j->to - j->from, j->by_dev + j->from);
+    return NULL;
+}
+
+static void *fill_rows(void *arg)
+{
+    RowJob *j = arg;
+    const Design *ds = j->ds;
+    const OpRecord **by_dev = j->by_dev;
+    for (size_t i = j->from; i < j->to; i++) {
+        Row *row = &j->rows[i];
+        const Device *dv = &ds->devs[i];
+#if defined(__GNUC__)
+        /* the records come in the dump's order, not the netlist's: ask for the ones a few devices
+           ahead, so that their cache misses overlap instead of following one another; first the
+           record, then (once it is there) its values */
+        if (i + 16 < j->to && by_dev[i + 16])
+            __builtin_prefetch(by_dev[i + 16]);
+        if (i + 8 < j->to && by_dev[i + 8]) {
+            const double *ahead = by_dev[i + 8]->q;
+            __builtin_prefetch(ahead);
+            __builtin_prefetch(ahead + 8);
+            __builtin_prefetch(ahead + 16);
+        }
+#endif
+        row->dev = dv;
+        row->op = by_dev[i];
+        if (!row->op) {
+            fig_normalize(NULL, dv->type, &row->fig);
+            continue;
+        }
+        j->nmatched++;
+        fig_normalize(row->op, dv->type, &row->fig);
+        /* The simulator's own m wins where the dump gives it: ngspice 39 does not multiply m
+           through subcircuit levels, so the netlist's product can differ from what ran. */
+        Device sim = *dv;
+        double dm = row->op->q[OPQ_M];
+        if (!isnan(dm) && dm > 0 && fabs(dm - dv->m) > 1e-9 * dv->m) {
+            if (!j->nm_differ++)
+                j->first_m = dv;
+            sim.m = dm;
+        }
+        if (j->opt->add_overlap)
+            fig_add_overlap(&row->fig, &sim);
+        fig_derive(&row->fig, &sim, rule_bands(j->rs, dv, NULL));
+    }
+    return NULL;
+}
+
+/* Run fn on both halves: the second in a thread of its own when the design is large enough to
+ * repay it (and a thread can be had), else both here. fn shares nothing between the halves. */
+#define JOIN_THREAD_MIN 65536
+static void halves(RowJob job[2], size_t n, void *(*fn)(void *))
+{
+    pthread_t th;
+    int on = n >= JOIN_THREAD_MIN && pthread_create(&th, NULL, fn, &job[1]) == 0;
+    fn(&job[0]);
+    if (on)
+        pthread_join(th, NULL);
+    else
+        fn(&job[1]);
+}
+
 int join_run_tables(const Design *ds, OpTable *t, const RuleSet *rs, const JoinOptions *opt,
                     const Lut *const *tables, size_t ntables, Joined *out, DiagList *d)
 {
@@ -139,7 +221,10 @@ int join_run_tables(const Design *ds, OpTable *t, const RuleSet *rs, const JoinO
             goto nomem;
         for (size_t i = 0; i < ds->ndevs; i++)
             names[i] = rec_name(&ds->devs[i]);
-        op_find_all(t, names, ds->ndevs, by_dev);
+        RowJob job[2] = {{.by_dev = by_dev, .t = t, .names = names}, {.by_dev = by_dev, .t = t, .names = names}};
+        job[0].to = job[1].from = ds->ndevs / 2;
+        job[1].to = ds->ndevs;
+        halves(job, ds->ndevs, find_records);
         free(names);
     }
     int rc = match_truncated(ds, t, by_dev, d);
@@ -148,45 +233,19 @@ int join_run_tables(const Design *ds, OpTable *t, const RuleSet *rs, const JoinO
     if (opt->consume)
         op_release_index(t); /* before the rows take its room */
 
-    size_t nm_differ = 0;
-    const Device *first_m = NULL;
     out->n = ds->ndevs;
     out->overlap = opt->add_overlap;
-    for (size_t i = 0; i < ds->ndevs; i++) {
-        Row *row = &out->rows[i];
-        const Device *dv = &ds->devs[i];
-#if defined(__GNUC__)
-        /* the records come in the dump's order, not the netlist's: ask for the ones a few devices
-           ahead, so that their cache misses overlap instead of following one another */
-        if (i + 8 < ds->ndevs && by_dev[i + 8]) {
-            const char *ahead = (const char *)by_dev[i + 8];
-            __builtin_prefetch(ahead);
-            __builtin_prefetch(ahead + 64);
-            __builtin_prefetch(ahead + 128);
-        }
-#endif
-        row->dev = dv;
-        row->op = by_dev[i];
-        if (!row->op) {
-            fig_normalize(NULL, dv->type, &row->fig);
-            continue;
-        }
-        used[row->op - t->recs] = 1;
-        out->nmatched++;
-        fig_normalize(row->op, dv->type, &row->fig);
-        /* The simulator's own m wins where the dump gives it: ngspice 39 does not multiply m
-           through subcircuit levels, so the netlist's product can differ from what ran. */
-        Device sim = *dv;
-        double dm = row->op->q[OPQ_M];
-        if (!isnan(dm) && dm > 0 && fabs(dm - dv->m) > 1e-9 * dv->m) {
-            if (!nm_differ++)
-                first_m = dv;
-            sim.m = dm;
-        }
-        if (opt->add_overlap)
-            fig_add_overlap(&row->fig, &sim);
-        fig_derive(&row->fig, &sim, rule_bands(rs, dv, NULL));
-    }
+    RowJob job[2] = {{.ds = ds, .rs = rs, .opt = opt, .by_dev = by_dev, .rows = out->rows},
+                     {.ds = ds, .rs = rs, .opt = opt, .by_dev = by_dev, .rows = out->rows}};
+    job[0].to = job[1].from = ds->ndevs / 2;
+    job[1].to = ds->ndevs;
+    halves(job, ds->ndevs, fill_rows);
+    out->nmatched = job[0].nmatched + job[1].nmatched;
+    size_t nm_differ = job[0].nm_differ + job[1].nm_differ;
+    const Device *first_m = job[0].first_m ? job[0].first_m : job[1].first_m;
+    for (size_t i = 0; i < ds->ndevs; i++)
+        if (by_dev[i])
+            used[by_dev[i] - t->recs] = 1;
     for (size_t i = 0; i < t->n; i++) {
         if (used[i])
             continue;

@@ -117,6 +117,61 @@ static void test_consuming_join(void **state)
     teardown(&x);
 }
 
+/* A design large enough for join to split its work between two threads: every row as one thread
+ * alone would make it, the counts and the first device whose dump m differs taken across the halves. */
+static void test_large_design(void **state)
+{
+    (void)state;
+    enum { N = 70000 };
+    Fixture x;
+    setup(&x, (const char *[]){"m0"}, 0);
+    Device *devs = calloc(N, sizeof *devs);
+    assert_non_null(devs);
+    char nm[32];
+    for (size_t i = 0; i < N; i++) {
+        int n = snprintf(nm, sizeof nm, "x%zu.m1", i);
+        devs[i] = (Device){.name = str_intern(x.ds.names, nm, (size_t)n), .model = "nch", .type = MOS_NMOS,
+                           .w = 2e-6, .l = 1e-6, .m = 1, .nf = 1};
+    }
+    x.ds.devs = devs;
+    x.ds.ndevs = N;
+    for (size_t k = 0; k < N; k++) { /* the dump lists them backwards, and leaves some out */
+        size_t i = N - 1 - k;
+        if (i % 1000 == 7)
+            continue;
+        snprintf(nm, sizeof nm, "x%zu.m1", i);
+        OpRecord *r = rec(&x, nm, 0);
+        if (i >= N / 4 + 5 && i % 2)
+            r->q[OPQ_M] = 3; /* the dump's m differs, in both halves */
+    }
+    rec(&x, "x99.m9", 0); /* no such device */
+    Joined j;
+    JoinOptions jo = {0, 0.5, 1};
+    assert_int_equal(join_run(&x.ds, &x.t, x.rs, &jo, &j, &x.d), ERR_OK);
+    assert_int_equal(j.nmatched, N - N / 1000);
+    assert_int_equal(j.norphans, 1);
+    for (size_t i = 0; i < N; i++) {
+        const Row *r = &j.rows[i];
+        assert_ptr_equal(r->dev, &devs[i]);
+        if (i % 1000 == 7) {
+            assert_null(r->op);
+            continue;
+        }
+        double m = i >= N / 4 + 5 && i % 2 ? 3 : 1;
+        /* gm/ID 150 uS / 10 uA (definition); ID/(W*m) with the dump's m */
+        assert_close(r->fig.gm_id, 15.0, 1e-12);
+        assert_close(r->fig.id_w, 1e-5 / (2e-6 * m), 1e-12);
+    }
+    int first = 0;
+    snprintf(nm, sizeof nm, "first: x%d.m1,", N / 4 + 5);
+    for (size_t i = 0; i < x.d.n; i++)
+        first |= strstr(x.d.items[i].msg, nm) != NULL;
+    assert_true(first);
+    join_free(&j);
+    free(devs);
+    teardown(&x);
+}
+
 static void test_cut_names(void **state)
 {
     (void)state;
@@ -210,6 +265,7 @@ int main(void)
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_exact_names),
         cmocka_unit_test(test_consuming_join),
+        cmocka_unit_test(test_large_design),
         cmocka_unit_test(test_cut_names),
         cmocka_unit_test(test_ambiguous_cut_name),
         cmocka_unit_test(test_dump_of_another_netlist),
