@@ -1651,6 +1651,12 @@ void nl_free(Design *ds)
     memset(ds, 0, sizeof *ds);
 }
 
+void nl_release_index(Design *ds)
+{
+    str_free(ds->names);
+    ds->names = NULL;
+}
+
 int nl_load(const char *path, const NlOptions *opt, Design *ds, DiagList *d)
 {
     return nl_load_pdk(path, opt, NULL, ds, d);

@@ -396,6 +396,8 @@ int run_check(const Options *o, FILE *out, int color, DiagList *d)
         status = exit_for(rc);
         goto done;
     }
+    if (!o->ntables)
+        nl_release_index(&ds); /* only the tables' node voltages look names up after this */
     /* check --table: lookup tables stand in for devices a dump has no data for (lut.h, join.h) */
     if (o->ntables && !(luts = calloc(o->ntables, sizeof *luts))) {
         status = exit_for(diag_nomem(d));
