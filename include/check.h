@@ -23,7 +23,7 @@ typedef struct {
     SrcLoc loc;          /* the device card (for a waiver finding: the waiver statement) */
     RuleOrigin rule;     /* the statement that asked for this check (file:line): a rule file line or
                             the netlist line of an inline intent */
-    /* intents, groups and waivers (added after the fields above, which the first writers read) */
+    /* for intents, matched groups and waivers */
     double want_lo, want_hi;   /* the intended range, NaN for an open end */
     const char *intended;      /* the requirement in words: "15 /V +-10 % (13.5 to 16.5 /V)"; NULL if none */
     const char *direction;     /* how the value drifted, in words; NULL when not a drift */

@@ -12,21 +12,38 @@
 
 struct Lut; /* lut.h */
 
+/* check --table: what the lookup tables gave a row; apart from Row, since only runs with tables
+ * have it (Joined.tab). */
+typedef struct {
+    const struct Lut *lut; /* figures taken from this table at the bias the node voltages give; the
+                              row's op then points at a record join built from it (Joined.derived).
+                              NULL: the figures are the dump's own */
+    unsigned lut_miss;   /* nonzero: the bias or L lies outside lut's grid (bits 1 << LutAxis); op is
+                            NULL and no figure is given: a table never extrapolates */
+    double suggest_w;    /* a device that misses its gm/ID intent: the W (total over fingers, per copy
+                            of m) that restores the intended gm/ID at its measured ID, L, VDS and VSB
+                            (size_suggest); NaN when there is none */
+    double suggest_gmid; /* the gm/ID suggest_w is for, 1/V */
+} RowTable;
+
 typedef struct {
     const Device *dev;
     const OpRecord *op;  /* NULL: no operating-point data for this device */
     Figures fig;         /* all NaN when op is NULL */
-    /* check --table: figures taken from a characterization table at the bias the node voltages give */
-    const struct Lut *lut; /* the table; op then points at a record join built from it (Joined.derived).
-                              NULL: the figures are the dump's own */
-    unsigned lut_miss;   /* nonzero: the bias or L lies outside lut's grid (bits 1 << LutAxis); op is
-                            NULL and no figure is given: a table never extrapolates */
-    double suggest_w;    /* check --table, a device that misses its gm/ID intent: the W (total over
-                            fingers, per copy of m) that restores the intended gm/ID at its measured
-                            ID, L, VDS and VSB (size_suggest); NaN (or 0 from code that builds rows
-                            by hand) when there is none */
-    double suggest_gmid; /* the gm/ID suggest_w is for, 1/V */
+    RowTable *tab;       /* check --table: the tables' part (in Joined.tab); NULL without tables */
 } Row;
+
+/* The table a row's figures come from, NULL when they are the dump's own. */
+static inline const struct Lut *row_lut(const Row *r)
+{
+    return r->tab ? r->tab->lut : NULL;
+}
+
+/* Row.tab->lut_miss, 0 without tables. */
+static inline unsigned row_lut_miss(const Row *r)
+{
+    return r->tab ? r->tab->lut_miss : 0;
+}
 
 typedef struct {
     Row *rows;                  /* one per Design device, in netlist order; malloc'd */
@@ -35,6 +52,7 @@ typedef struct {
     size_t norphans, orphans_cap;
     size_t nmatched;
     int overlap;                /* overlap capacitance was added to Cgg where the model gives it */
+    RowTable *tab;              /* check --table: one per row; malloc'd; NULL without tables */
     OpRecord *derived;          /* check --table: records built from tables, one per table-derived row; malloc'd */
     double *derived_q;          /* their values, OPQ_COUNT each; malloc'd */
     size_t ntable;              /* rows whose figures come from a table (Row.lut set, lut_miss 0) */

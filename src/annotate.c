@@ -131,7 +131,7 @@ static int device_line(Ctx *c, const Row *r)
     Buf *b = c->out;
     int rc = head(c, r->dev->name);
     if (!r->op)
-        return rc | buf_printf(b, "%s%s", r->lut_miss ? "no figures: the bias or L lies outside the lookup table's grid"
+        return rc | buf_printf(b, "%s%s", row_lut_miss(r) ? "no figures: the bias or L lies outside the lookup table's grid"
                                                       : "no operating-point data", c->eol);
     rc |= buf_puts(b, fig_region_name[g->region]);
     if (g->swapped)
@@ -147,7 +147,7 @@ static int device_line(Ctx *c, const Row *r)
         rc |= put_eng(b, "suggest W", w, "m") | buf_puts(b, " for gm/ID ") |
               buf_append(b, tmp, numfmt_g(tmp, gm_id, 3)) | buf_puts(b, "/V");
     }
-    if (r->lut)
+    if (row_lut(r))
         rc |= buf_puts(b, " | from table ") | buf_puts(b, rep_table_path(r));
     return rc | buf_puts(b, c->eol);
 }

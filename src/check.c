@@ -525,11 +525,11 @@ static void check_row(Ctx *c, size_t i, const Row *r, const Need *need)
     char a[48], b[48], why[160];
 
     if (!r->op) {
-        if (nodata->enabled && r->lut_miss) {
+        if (nodata->enabled && row_lut_miss(r)) {
             char which[40] = "";
             int many = 0;
             for (int k = 0, n = 0; k < LUTAX_COUNT; k++)
-                if (r->lut_miss & (1u << k)) {
+                if (row_lut_miss(r) & (1u << k)) {
                     many = n > 0;
                     n += snprintf(which + n, sizeof which - (size_t)n, "%s%s", n ? " and " : "", lut_axis_label[k]);
                 }

@@ -256,8 +256,14 @@ int join_run_tables(const Design *ds, OpTable *t, const RuleSet *rs, const JoinO
     double first_dm = first_m ? by_dev[first_m - ds->devs]->q[OPQ_M] : NAN;
     if (opt->consume)
         op_release_values(t); /* the rows hold what the reports need */
-    for (size_t i = 0; i < out->n; i++) /* check --table: no width suggestion yet (size_suggest) */
-        out->rows[i].suggest_w = out->rows[i].suggest_gmid = NAN;
+    if (ntables) { /* check --table: the tables' part of every row, no width suggestion yet (size_suggest) */
+        if (!(out->tab = calloc(out->n ? out->n : 1, sizeof *out->tab)))
+            goto nomem;
+        for (size_t i = 0; i < out->n; i++) {
+            out->tab[i].suggest_w = out->tab[i].suggest_gmid = NAN;
+            out->rows[i].tab = &out->tab[i];
+        }
+    }
     if (ntables && (rc = fill_from_tables(ds, t, rs, opt, tables, ntables, out, d)) != ERR_OK)
         goto fail;
     double need = opt->min_match_fraction > 0 ? opt->min_match_fraction : 0.5;
@@ -294,6 +300,7 @@ void join_free(Joined *j)
     if (!j)
         return;
     free(j->rows);
+    free(j->tab);
     free(j->derived);
     free(j->derived_q);
     free(j->orphans);
@@ -424,8 +431,8 @@ static int fill_from_tables(const Design *ds, const OpTable *t, const RuleSet *r
         }
         LutVals v;
         unsigned miss = lut_eval(lt, q[LUTAX_L], q[LUTAX_VGS], q[LUTAX_VDS], q[LUTAX_VSB], &v);
-        row->lut = lt;
-        row->lut_miss = miss;
+        row->tab->lut = lt;
+        row->tab->lut_miss = miss;
         if (miss) {
             char why[96];
             miss_text(lt, miss, q, why, sizeof why);

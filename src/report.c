@@ -365,18 +365,18 @@ const char *rep_check_help(int k)
 const char *rep_region_word(const Row *r)
 {
     if (!r->op)
-        return r->lut_miss ? "outside table" : "no data";
+        return row_lut_miss(r) ? "outside table" : "no data";
     return fig_region_name[(unsigned)r->fig.region < REGION_COUNT ? r->fig.region : 0];
 }
 
 const char *rep_source(const Row *r)
 {
-    return !r->op ? NULL : r->lut ? "table" : "dump";
+    return !r->op ? NULL : row_lut(r) ? "table" : "dump";
 }
 
 const char *rep_table_path(const Row *r)
 {
-    return r->lut ? lut_path(r->lut) : NULL;
+    return row_lut(r) ? lut_path(row_lut(r)) : NULL;
 }
 
 static int uses_tables(const ReportCtx *c)
@@ -388,7 +388,7 @@ static int uses_tables(const ReportCtx *c)
         if (j->ntable)
             return 1;
         for (size_t i = 0; i < j->n; i++)
-            if (j->rows[i].lut)
+            if (row_lut(&j->rows[i]))
                 return 1;
     }
     return 0;
@@ -396,10 +396,10 @@ static int uses_tables(const ReportCtx *c)
 
 int rep_suggestion(const Row *r, double *w, double *gm_id)
 {
-    if (!(r->suggest_w > 0) || !isfinite(r->suggest_w))
+    if (!r->tab || !(r->tab->suggest_w > 0) || !isfinite(r->tab->suggest_w))
         return 0;
-    *w = r->suggest_w;
-    *gm_id = r->suggest_gmid;
+    *w = r->tab->suggest_w;
+    *gm_id = r->tab->suggest_gmid;
     return 1;
 }
 

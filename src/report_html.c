@@ -829,7 +829,7 @@ static void device_row(const ReportCtx *c, FILE *fp, size_t i, size_t k, int wor
         const char *from = rep_source(r);
         fputs("<td title=\"", fp);
         esc(fp, rep_table_path(r) ? rep_table_path(r) : "the simulator's device data");
-        fprintf(fp, "\">%s</td>", from ? from : r->lut_miss ? "outside table" : "-");
+        fprintf(fp, "\">%s</td>", from ? from : row_lut_miss(r) ? "outside table" : "-");
     }
     const char *rg = rep_region_word(r);
     fprintf(fp, "<td><span class=\"rg %s\">%s</span></td><td>", r->op ? rg : "no-data", rg);

@@ -136,7 +136,7 @@ static void finding_text(const ReportCtx *c, FILE *fp, RepRef r)
     }
     const Joined *j = c->corners[r.corner].joined;
     const Row *row = f->row < j->n ? &j->rows[f->row] : NULL;
-    if (row && row->lut) {
+    if (row && row_lut(row)) {
         fputs(row->op ? "figures from the lookup table " : "no figures: the bias or L lies outside the grid of ", fp);
         rep_xml_text(fp, rep_table_path(row));
         fputs(row->op ? " at the bias of the node voltages\n" : "\n", fp);

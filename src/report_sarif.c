@@ -262,7 +262,7 @@ static void result(const ReportCtx *c, FILE *fp, const RepGroup *g, int first)
     }
     const Joined *wj = c->corners[g->worst.corner].joined;
     const Row *row = g->row < wj->n ? &wj->rows[g->row] : NULL;
-    if (row && row->lut) { /* the worst corner's figures came from a lookup table, not the simulator */
+    if (row && row_lut(row)) { /* the worst corner's figures came from a lookup table, not the simulator */
         fputs(", \"figureSource\": ", fp);
         rep_json_str(fp, rep_source(row) ? rep_source(row) : "none");
         fputs(", \"lookupTable\": ", fp);

@@ -167,7 +167,7 @@ static void cgg_note(const ReportCtx *c, FILE *fp)
             continue;
         if (isnan(r->fig.cgg))
             none++;
-        else if (r->lut)
+        else if (row_lut(r))
             table++;
         else if (r->fig.cgg_summed)
             summed++;
@@ -255,9 +255,9 @@ static void tables_note(const ReportCtx *c, FILE *fp)
         const Joined *j = c->corners[q].joined;
         for (size_t i = 0; i < j->n; i++) {
             const Row *r = &j->rows[i];
-            if (!r->lut)
+            if (!row_lut(r))
                 continue;
-            if (r->lut_miss) {
+            if (row_lut_miss(r)) {
                 outside++;
                 continue;
             }

@@ -242,9 +242,9 @@ int size_suggest(const Lut *const *tables, size_t ntables, double temp_c, Joined
         double w, vgs;
         int rc = lut_suggest_w(t, dv->l, r->fig.vds, r->fig.vsb, target, r->fig.id, dv->m, &w, &vgs);
         char a[32], b[32], c[32], more[256];
-        if (rc == LUT_INV_OK && w > 0) {
-            r->suggest_w = w;
-            r->suggest_gmid = target;
+        if (rc == LUT_INV_OK && w > 0 && r->tab) {
+            r->tab->suggest_w = w;
+            r->tab->suggest_gmid = target;
             char each[32] = "";
             if (dv->m != 1)
                 snprintf(each, sizeof each, " (each of m=%g)", dv->m);

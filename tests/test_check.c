@@ -123,7 +123,8 @@ static void test_outside_table(void **state)
     Spec s[] = {{"m1", 0, 0, 0, 0, 1, GOOD, 0, 0}};
     Fx x;
     build(&x, s, 1, NULL);
-    x.j.rows[0].lut_miss = (1u << 0) | (1u << 3); /* LutAxis: L and VGS */
+    RowTable tab = {.lut_miss = (1u << 0) | (1u << 3)}; /* LutAxis: L and VGS */
+    x.j.rows[0].tab = &tab;
     Findings f;
     assert_int_equal(chk_run(x.rs, &x.ds, &x.j, &f), ERR_OK);
     assert_int_equal(f.n, 1);

@@ -789,7 +789,7 @@ static void test_join_from_tables(void **state)
                     x->fig.gm_id, y->fig.gm_id, x->fig.vgs, y->fig.vgs, x->fig.vds, y->fig.vds, x->fig.vsb, y->fig.vsb);
         assert_non_null(x->op);
         assert_non_null(y->op);
-        assert_true(y->lut != NULL && y->lut_miss == 0 && x->lut == NULL);
+        assert_true(row_lut(y) != NULL && row_lut_miss(y) == 0 && row_lut(x) == NULL);
         assert_int_equal(y->fig.region, x->fig.region);
         assert_int_equal(y->fig.swapped, x->fig.swapped);
         assert_close(y->fig.vgs, x->fig.vgs, 1e-6);
