@@ -44,7 +44,6 @@ typedef struct {
     double m;            /* multiplier as ngspice 39 computes it: the card's m, or the calling X card's m
                             where ngspice replaces it (not a product; flatten.c, mult_flags) */
     double nf;           /* fingers, 1 when not given */
-    const char *nets[4]; /* d, g, s, b: hierarchical node names, interned ("x1.tail", "vdd", "0") */
     const char *cell;    /* subcircuit the card stands in, interned; NULL at top level */
     /* added for PDK netlists (primitive cells, --top/--prefix); zero for a plain M card */
     const char *simname; /* canonical name of the device's record in the dump when it differs from
@@ -73,8 +72,17 @@ typedef struct {
     size_t nmodels;
     Device *devs;
     size_t ndevs;
+    const char *(*nets)[4]; /* per device (parallel to devs): its d, g, s, b nets, hierarchical names,
+                               interned ("x1.tail", "vdd", "0"); apart from Device, since only lookup
+                               tables read them: NULL once nl_release_index gave them back */
     double temp_c;       /* .temp or .option temp, 27 when not given */
     const char *title;   /* the title line, arena copy */
 } Design;
+
+/* The d, g, s, b nets of device dv of ds. */
+static inline const char *const *nl_nets(const Design *ds, const Device *dv)
+{
+    return ds->nets[dv - ds->devs];
+}
 
 #endif

@@ -60,8 +60,9 @@ int nl_load(const char *path, const NlOptions *opt, Design *ds, DiagList *d) MUS
 /* The same with the options of PDK netlists (pdk may be NULL: none); nl_load passes NULL. */
 int nl_load_pdk(const char *path, const NlOptions *opt, const NlPdkOptions *pdk, Design *ds, DiagList *d) MUST_CHECK;
 void nl_free(Design *ds); /* accepts a zeroed Design */
-/* Give back the design's name index (Design.names becomes NULL; the names stay): for a run that will
- * look no name up again, which is every check without lookup tables once the dumps are bound. */
+/* Give back the design's name index and the devices' nets (Design.names and Design.nets become
+ * NULL; the names stay): for a run that will look no name up again and read no net, which is every
+ * check without lookup tables once the dumps are bound. */
 void nl_release_index(Design *ds);
 
 /* ---- The circuit model between netlist.c and flatten.c ---------------------------------------- */

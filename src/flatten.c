@@ -779,7 +779,7 @@ static int emit_bare(Flat *f, uint32_t fi, NlInst *x)
     if (!dv->name)
         return ERR_NOMEM;
     for (int k = 0; k < 4; k++)
-        if (!(dv->nets[k] = net(f, fi, x->nodes[k])))
+        if (!(ds->nets[dv - ds->devs][k] = net(f, fi, x->nodes[k])))
             return ERR_NOMEM;
     dv->model = x->subname;
     dv->mdl = NULL;
@@ -876,7 +876,7 @@ static int emit(Flat *f, uint32_t fi)
         dv->cell = def->name;
         dv->card = mm->card;
         for (int k = 0; k < 4; k++)
-            if (!(dv->nets[k] = net(f, fi, mm->node[k])))
+            if (!(ds->nets[dv - ds->devs][k] = net(f, fi, mm->node[k])))
                 return ERR_NOMEM;
         double w = NAN, l = NAN, m = 1, nf = 1;
         uint32_t file = card->file;
@@ -1152,7 +1152,8 @@ int flat_run(Netlist *nl)
                  top->height);
         goto done;
     }
-    if (top->ndev && !(ds->devs = calloc((size_t)top->ndev, sizeof *ds->devs)))
+    if (top->ndev && (!(ds->devs = calloc((size_t)top->ndev, sizeof *ds->devs)) ||
+                      !(ds->nets = calloc((size_t)top->ndev, sizeof *ds->nets))))
         goto oom;
     f.capdevs = (size_t)top->ndev;
     if (push(&f, NONE, NULL, top0, 1.0) != ERR_OK)

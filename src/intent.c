@@ -248,7 +248,9 @@ static void strays(Scan *s)
         const char *t = f->text;
         size_t len = f->len;
         uint32_t lineno = 1;
+        size_t dropped = 0; /* the text behind is not read again soon (source.h) */
         for (size_t off = 0; off < len && s->colon[fi]; lineno++) {
+            src_drop_behind(f, &dropped, off);
             const char *nl = memchr(t + off, '\n', len - off);
             size_t ls = off, le = nl ? (size_t)(nl - t) : len;
             if (!memchr(t + ls, ':', le - ls)) { /* no marker on a line without a ':' */
@@ -277,6 +279,20 @@ static void strays(Scan *s)
     }
 }
 
+/* Whether f holds a ':' anywhere (every marker ends in one), handing back the pages it has read. */
+static int has_colon(const SrcFile *f)
+{
+    if (!f->text)
+        return 0;
+    for (size_t off = 0; off < f->len; off += SRC_DROP_STEP) {
+        size_t n = f->len - off < SRC_DROP_STEP ? f->len - off : SRC_DROP_STEP;
+        if (memchr(f->text + off, ':', n))
+            return 1;
+        src_drop(f, off, off + n);
+    }
+    return 0;
+}
+
 int intent_scan(const Design *ds, IntentSet *out, DiagList *d)
 {
     memset(out, 0, sizeof *out);
@@ -298,7 +314,7 @@ int intent_scan(const Design *ds, IntentSet *out, DiagList *d)
     for (uint32_t i = 0; i < ds->files.n; i++) {
         s.canon[i] = i;
         const SrcFile *f = ds->files.files[i];
-        s.colon[i] = f->text && memchr(f->text, ':', f->len) != NULL;
+        s.colon[i] = (unsigned char)has_colon(f);
         for (uint32_t k = 0; k < i; k++) {
             const SrcFile *g = ds->files.files[k];
             if ((f->ino && f->dev == g->dev && f->ino == g->ino) || (!f->ino && strcmp(f->path, g->path) == 0)) {
@@ -307,8 +323,11 @@ int intent_scan(const Design *ds, IntentSet *out, DiagList *d)
             }
         }
     }
+    size_t dropped = 0; /* of the top file, whose cards come in order */
     for (uint32_t c = 0; c < ds->ncards && !s.oom; c++) {
         out->start[c] = out->n;
+        if (ds->cards[c].file == 0 && ds->files.n)
+            src_drop_behind(ds->files.files[0], &dropped, ds->cards[c].start);
         if (mos[c])
             scan_card(&s, c);
     }

@@ -409,7 +409,7 @@ static int fill_from_tables(const Design *ds, const OpTable *t, const RuleSet *r
         double vn[4];
         int known = 1;
         for (int k = 0; k < 4; k++)
-            known &= !isnan(vn[k] = net_voltage(t, &map, dv->nets[k]));
+            known &= !isnan(vn[k] = net_voltage(t, &map, nl_nets(ds, dv)[k]));
         if (!known) {
             list_add(&nonodes, dv->name, NULL);
             continue;

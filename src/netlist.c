@@ -1647,6 +1647,7 @@ void nl_free(Design *ds)
     free(ds->cards);
     free(ds->models);
     free(ds->devs);
+    free(ds->nets);
     arena_free(&ds->arena);
     memset(ds, 0, sizeof *ds);
 }
@@ -1655,6 +1656,8 @@ void nl_release_index(Design *ds)
 {
     str_free(ds->names);
     ds->names = NULL;
+    free(ds->nets);
+    ds->nets = NULL;
 }
 
 int nl_load(const char *path, const NlOptions *opt, Design *ds, DiagList *d)

@@ -182,19 +182,19 @@ static void test_nets(void **state)
     /* ports take the outer net; internal nets get the instance path; 0, gnd and .global nets stay
        as they are (ngspice 39: `print all` shows x1.tail and x1.mixed, and a subcircuit's gnd is
        the ground node) */
-    assert_string_equal(m1->nets[0], "top");
-    assert_string_equal(m1->nets[1], "xtop.inner");
-    assert_string_equal(m1->nets[2], "xtop.xl.int");
-    assert_string_equal(m1->nets[3], "0");
-    assert_string_equal(m2->nets[0], "xtop.xl.int");
-    assert_string_equal(m2->nets[1], "gnd");
-    assert_string_equal(m2->nets[2], "vdd");
-    assert_string_equal(m2->nets[3], "xtop.xl.mixed");
-    assert_string_equal(m3->nets[0], "xtop.inner");
-    assert_string_equal(mz->nets[2], "gnd");
+    assert_string_equal(nl_nets(&ds, m1)[0], "top");
+    assert_string_equal(nl_nets(&ds, m1)[1], "xtop.inner");
+    assert_string_equal(nl_nets(&ds, m1)[2], "xtop.xl.int");
+    assert_string_equal(nl_nets(&ds, m1)[3], "0");
+    assert_string_equal(nl_nets(&ds, m2)[0], "xtop.xl.int");
+    assert_string_equal(nl_nets(&ds, m2)[1], "gnd");
+    assert_string_equal(nl_nets(&ds, m2)[2], "vdd");
+    assert_string_equal(nl_nets(&ds, m2)[3], "xtop.xl.mixed");
+    assert_string_equal(nl_nets(&ds, m3)[0], "xtop.inner");
+    assert_string_equal(nl_nets(&ds, mz)[2], "gnd");
     /* interned: equal names are equal pointers */
-    assert_ptr_equal(m1->nets[2], m2->nets[0]);
-    assert_ptr_equal(m1->nets[1], m3->nets[0]);
+    assert_ptr_equal(nl_nets(&ds, m1)[2], nl_nets(&ds, m2)[0]);
+    assert_ptr_equal(nl_nets(&ds, m1)[1], nl_nets(&ds, m3)[0]);
     assert_string_equal(m1->cell, "leaf");
     assert_string_equal(m3->cell, "mid");
     assert_null(mz->cell);
@@ -403,10 +403,10 @@ static void test_big_hierarchy(void **state)
     assert_int_equal(ds.ncards, 600); /* 300 M cards, 300 X cards */
     const Device *v = &ds.devs[300 * 17 + 42];
     assert_string_equal(v->name, "x17.m42");
-    assert_string_equal(v->nets[0], "x17.n42");
-    assert_string_equal(v->nets[1], "x17.n43");
-    assert_string_equal(v->nets[2], "a17");
-    assert_string_equal(v->nets[3], "vdd");
+    assert_string_equal(nl_nets(&ds, v)[0], "x17.n42");
+    assert_string_equal(nl_nets(&ds, v)[1], "x17.n43");
+    assert_string_equal(nl_nets(&ds, v)[2], "a17");
+    assert_string_equal(nl_nets(&ds, v)[3], "vdd");
     assert_close(v->w, 2e-6, 1e-12); /* k = 1 + 17 % 4 = 2 */
     assert_close(v->nf, 2, 0);
     assert_int_equal(v->card, 42);
@@ -565,8 +565,8 @@ static void compare_with_ngspice(const char *dir, const char *file)
         assert_string_equal(v->mdl->name, r->model);
         /* every net biaslint names is a node ngspice has (ground aside) */
         for (int k = 0; k < 4; k++)
-            if (strcmp(v->nets[k], "0") && strcmp(v->nets[k], "gnd") && !has_node(text, v->nets[k])) {
-                print_error("%s: net %s of %s is not a node in ngspice\n", file, v->nets[k], v->name);
+            if (strcmp(nl_nets(&ds, v)[k], "0") && strcmp(nl_nets(&ds, v)[k], "gnd") && !has_node(text, nl_nets(&ds, v)[k])) {
+                print_error("%s: net %s of %s is not a node in ngspice\n", file, nl_nets(&ds, v)[k], v->name);
                 fail();
             }
     }

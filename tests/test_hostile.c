@@ -820,7 +820,7 @@ static void test_nameless_subckt(void **state)
     assert_string_equal(ds.devs[0].name, "m3");
     static const char *const want[4] = {"h", "g", "f", "e"};
     for (int k = 0; k < 4; k++)
-        assert_string_equal(ds.devs[0].nets[k], want[k]);
+        assert_string_equal(nl_nets(&ds, &ds.devs[0])[k], want[k]);
     nl_free(&ds);
     diag_free(&d);
     free(p);

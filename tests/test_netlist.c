@@ -103,10 +103,10 @@ static void test_includes_and_lib(void **state)
     assert_true(isnan(n->mdl->cgbo));
     assert_int_equal(p->mdl->level, 1);
     /* nets */
-    assert_string_equal(n->nets[0], "g"); /* mn z a 0 0 in inv a z vdd, called as xa d g vdd inv */
-    assert_string_equal(n->nets[1], "d");
-    assert_string_equal(n->nets[2], "0");
-    assert_string_equal(p->nets[3], "vdd");
+    assert_string_equal(nl_nets(&ds, n)[0], "g"); /* mn z a 0 0 in inv a z vdd, called as xa d g vdd inv */
+    assert_string_equal(nl_nets(&ds, n)[1], "d");
+    assert_string_equal(nl_nets(&ds, n)[2], "0");
+    assert_string_equal(nl_nets(&ds, p)[3], "vdd");
     assert_int_equal(d.nerrors, 0);
     done();
 }
@@ -146,7 +146,7 @@ static void test_cards_and_options(void **state)
     assert_close(m1->l, 0.5e-6, 1e-12);
     assert_close(m1->m, 2, 0);
     assert_string_equal(m1->model, "n");
-    assert_string_equal(m1->nets[0], "d");
+    assert_string_equal(nl_nets(&ds, m1)[0], "d");
     const Card *c = &ds.cards[m1->card];
     assert_int_equal(c->line, 6);
     assert_int_equal(c->col, 4);

@@ -254,9 +254,9 @@ static void test_primitive_cells(void **state)
     assert_close(m1->m, 3, 0);
     assert_close(m9->m, 1, 0);
     /* nets: the gate is the inner node behind the gate resistor, the others the X card's */
-    assert_string_equal(m1->nets[0], "b");
-    assert_string_equal(m1->nets[1], "x1.xm1.gi");
-    assert_string_equal(m1->nets[2], "0");
+    assert_string_equal(nl_nets(&ds, m1)[0], "b");
+    assert_string_equal(nl_nets(&ds, m1)[1], "x1.xm1.gi");
+    assert_string_equal(nl_nets(&ds, m1)[2], "0");
     /* cards: the X cards */
     const Card *c1 = &ds.cards[m1->card], *c9 = &ds.cards[m9->card];
     assert_int_equal(c1->line, 17);
@@ -322,7 +322,7 @@ static void test_undefined_cells(void **state)
     assert_close(m1->nf, 2, 0);
     assert_close(m1->m, 4, 0); /* mult, without m= */
     assert_close(m2->m, 2, 0);
-    assert_string_equal(m2->nets[2], "vdd");
+    assert_string_equal(nl_nets(&ds, m2)[2], "vdd");
     const Diag *g = diag_with(DIAG_WARNING, "cell 'lp_nch_18' is not defined (the netlist reads no library that defines it)");
     assert_int_equal(g->loc.line, 3);
     assert_int_equal(g->loc.col, 13);
@@ -404,10 +404,10 @@ static void test_top(void **state)
     assert_int_equal(ds.ndevs, 4);
     const Device *x0 = dev("x0"), *m1 = dev("m1"), *s1 = dev("xsub.m1");
     assert_string_equal(x0->simname, "x0.mx");
-    assert_string_equal(x0->nets[0], "out"); /* the cell's ports as written */
-    assert_string_equal(m1->nets[2], "vdd");
-    assert_string_equal(s1->nets[0], "mid");
-    assert_string_equal(s1->nets[2], "vss");
+    assert_string_equal(nl_nets(&ds, x0)[0], "out"); /* the cell's ports as written */
+    assert_string_equal(nl_nets(&ds, m1)[2], "vdd");
+    assert_string_equal(nl_nets(&ds, s1)[0], "mid");
+    assert_string_equal(nl_nets(&ds, s1)[2], "vss");
     assert_string_equal(m1->cell, "buf");
     assert_close(x0->w, 2e-6, 1e-12);
     assert_int_equal(d.nwarnings, 0);

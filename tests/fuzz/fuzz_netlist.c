@@ -75,7 +75,7 @@ static void check_design(const Design *ds)
         if (!dv->name || !dv->name[0] || dv->card >= ds->ncards)
             fuzz_fail("device %zu has no name or a bad card index", i);
         for (int k = 0; k < 4; k++)
-            if (!dv->nets[k])
+            if (!nl_nets(ds, dv)[k])
                 fuzz_fail("device %s lacks net %d", dv->name, k);
         /* NaN is an absent size (a cell read from its X card may give none); never negative or infinite */
         if (dv->w < 0 || dv->l < 0 || dv->m < 0 || dv->nf < 0 || isinf(dv->w) || isinf(dv->l) || isinf(dv->m) ||
