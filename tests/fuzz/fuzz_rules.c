@@ -15,14 +15,12 @@ static Model models[] = {
 };
 
 static Device devices[] = {
-    {.name = "m1", .model = "nch", .mdl = &models[0], .type = MOS_NMOS, .w = 1e-6, .l = 1e-7, .m = 1, .nf = 1,
-     .nets = {"d", "g", "s", "b"}},
+    {.name = "m1", .model = "nch", .mdl = &models[0], .type = MOS_NMOS, .w = 1e-6, .l = 1e-7, .m = 1, .nf = 1},
     {.name = "x1.xamp.m3", .model = "pch_lvt", .mdl = &models[1], .type = MOS_PMOS, .w = 2e-6, .l = 1e-7, .m = 2,
-     .nf = 2, .nets = {"x1.o", "x1.i", "vdd", "vdd"}, .cell = "amp"},
+     .nf = 2, .cell = "amp"},
     {.name = "x2.mtail", .model = "nch", .mdl = &models[2], .type = MOS_NMOS, .w = 4e-6, .l = 5e-7, .m = 1, .nf = 1,
-     .nets = {"x2.t", "bias", "0", "0"}, .cell = "ota"},
-    {.name = "m.odd", .model = "nomodel", .type = MOS_UNKNOWN, .w = 1e-6, .l = 1e-6, .m = 1, .nf = 1,
-     .nets = {"a", "b", "c", "d"}},
+     .cell = "ota"},
+    {.name = "m.odd", .model = "nomodel", .type = MOS_UNKNOWN, .w = 1e-6, .l = 1e-6, .m = 1, .nf = 1},
 };
 
 #define NDEV (sizeof devices / sizeof devices[0])
