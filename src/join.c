@@ -192,11 +192,15 @@ static void *fill_rows(void *arg)
     return NULL;
 }
 
-/* Run fn on both halves: the second in a thread of its own when the design is large enough to
- * repay it (and a thread can be had), else both here. fn shares nothing between the halves. */
+/* Run fn on the two halves of devices 0..n (job[0] the first, job[1] the second): the second in a
+ * thread of its own when the design is large enough to repay it (and a thread can be had), else both
+ * here. fn shares nothing between the halves. */
 #define JOIN_THREAD_MIN 65536
 static void halves(RowJob job[2], size_t n, void *(*fn)(void *))
 {
+    job[0].from = 0;
+    job[0].to = job[1].from = n / 2;
+    job[1].to = n;
     pthread_t th;
     int on = n >= JOIN_THREAD_MIN && pthread_create(&th, NULL, fn, &job[1]) == 0;
     fn(&job[0]);
@@ -222,8 +226,6 @@ int join_run_tables(const Design *ds, OpTable *t, const RuleSet *rs, const JoinO
         for (size_t i = 0; i < ds->ndevs; i++)
             names[i] = rec_name(&ds->devs[i]);
         RowJob job[2] = {{.by_dev = by_dev, .t = t, .names = names}, {.by_dev = by_dev, .t = t, .names = names}};
-        job[0].to = job[1].from = ds->ndevs / 2;
-        job[1].to = ds->ndevs;
         halves(job, ds->ndevs, find_records);
         free(names);
     }
@@ -237,8 +239,6 @@ int join_run_tables(const Design *ds, OpTable *t, const RuleSet *rs, const JoinO
     out->overlap = opt->add_overlap;
     RowJob job[2] = {{.ds = ds, .rs = rs, .opt = opt, .by_dev = by_dev, .rows = out->rows},
                      {.ds = ds, .rs = rs, .opt = opt, .by_dev = by_dev, .rows = out->rows}};
-    job[0].to = job[1].from = ds->ndevs / 2;
-    job[1].to = ds->ndevs;
     halves(job, ds->ndevs, fill_rows);
     out->nmatched = job[0].nmatched + job[1].nmatched;
     size_t nm_differ = job[0].nm_differ + job[1].nm_differ;

@@ -5,6 +5,7 @@
 
 #include <stdint.h>
 #include <stdlib.h>
+#include <string.h>
 
 #if defined(__linux__)
 #include <sys/mman.h>
@@ -22,6 +23,18 @@ void mem_hint_huge(void *p, size_t n)
     (void)p;
     (void)n;
 #endif
+}
+
+void *mem_zeroed(size_t n, size_t size)
+{
+    if (size && n > SIZE_MAX / size)
+        return NULL;
+    void *p = malloc(n && size ? n * size : 1);
+    if (p) {
+        mem_hint_huge(p, n * size);
+        memset(p, 0, n * size);
+    }
+    return p;
 }
 
 void *mem_pages(size_t n)

@@ -1692,10 +1692,8 @@ int nl_load_pdk(const char *path, const NlOptions *opt, const NlPdkOptions *pdk,
     Parser ps;
     memset(&ps, 0, sizeof ps);
     ps.nl = &nl;
-    /* optional: NULL only slows names down. Written, not calloc'd: it is read before it is written
-       (strtab.c, fresh_slots) */
-    if ((ps.icache = malloc(((size_t)1 << ICACHE_BITS) * sizeof *ps.icache)))
-        memset(ps.icache, 0, ((size_t)1 << ICACHE_BITS) * sizeof *ps.icache);
+    /* optional: NULL only slows names down; read before it is written (memhint.h) */
+    ps.icache = mem_zeroed((size_t)1 << ICACHE_BITS, sizeof *ps.icache);
     int rc = ERR_OK;
     if (!(ds->names = str_new(&ds->arena)) || !(nl.nm_zero = str_intern(ds->names, "0", 1)) ||
         !(nl.nm_gnd = str_intern(ds->names, "gnd", 3))) {

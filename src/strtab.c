@@ -2,7 +2,6 @@
 #include "strtab.h"
 
 #include <ctype.h>
-#include <stdint.h>
 #include <stdlib.h>
 #include <string.h>
 
@@ -77,26 +76,10 @@ static size_t probe(const StrTab *t, const char *s, size_t n, uint64_t h)
     return i;
 }
 
-/* A zeroed slot array, written rather than calloc'd: the probes read a table before they write it,
- * and a page first read is the shared zero page, which the first write must then replace (a fault
- * and, with a second thread running, a TLB shootdown on every core) where a page first written is
- * one fault. Huge pages asked for before the pages are touched. */
-static void *fresh_slots(size_t n, size_t size)
-{
-    if (n > SIZE_MAX / size)
-        return NULL;
-    void *p = malloc(n * size);
-    if (p) {
-        mem_hint_huge(p, n * size);
-        memset(p, 0, n * size);
-    }
-    return p;
-}
-
 static int grow(StrTab *t)
 {
     size_t ncap = t->cap ? t->cap * 2 : 256;
-    Slot *slots = fresh_slots(ncap, sizeof *slots);
+    Slot *slots = mem_zeroed(ncap, sizeof *slots); /* probes read before they write (memhint.h) */
     if (!slots)
         return ERR_NOMEM;
     for (size_t i = 0; i < t->cap; i++) {
@@ -189,7 +172,7 @@ static inline size_t ptr_hash(const char *p)
 static int map_grow(StrMap *m)
 {
     size_t ncap = m->cap ? m->cap * 2 : 64;
-    StrMapSlot *slots = fresh_slots(ncap, sizeof *slots);
+    StrMapSlot *slots = mem_zeroed(ncap, sizeof *slots); /* as above */
     if (!slots)
         return ERR_NOMEM;
     for (size_t i = 0; i < m->cap; i++) {
