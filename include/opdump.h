@@ -5,6 +5,7 @@
 #ifndef OPDUMP_H
 #define OPDUMP_H
 
+#include <math.h>
 #include <stdbool.h>
 #include <stddef.h>
 #include <stdint.h>
@@ -35,8 +36,9 @@ typedef struct {
     bool truncated;       /* the dump cut the name (ngspice `show` keeps 21 characters): match by prefix */
     OpFamily family;
     const char *model;    /* model name when the dump gives it, interned; NULL otherwise */
-    double *q;            /* OPQ_COUNT values, NaN where absent (an absent value is never 0), in one of
-                             the table's blocks; NULL once op_release_values gave them back */
+    double *q;            /* the values, NaN where absent (an absent value is never 0), in one of the
+                             table's blocks: read them with op_q (the table may keep only the quantities
+                             its dump has, op_layout); NULL once op_release_values gave them back */
     SrcLoc loc;           /* where the record starts in the dump (file borrowed from the OpTable) */
     uint32_t extra;       /* index of this record's first value in OpTable.extra_vals */
 } OpRecord;
@@ -52,6 +54,10 @@ typedef struct {
     size_t n, cap;
     double **vblock;        /* the records' values: block b holds records b*OP_VBLOCK.. (mem_pages) */
     size_t nvblock, capvblock;
+    /* Which quantities a record keeps (op_layout): nq values per record, quantity k at slot[k] - 1, absent
+       where slot[k] is 0. nq 0 (a zeroed table) keeps all OPQ_COUNT, in OpQty order. */
+    uint8_t nq;
+    uint8_t slot[OPQ_COUNT];
     /* Node voltages (raw files; show output where a node table is printed). Names canonical
        ("x1.tail", "out"), interned. */
     const char **node_name;
@@ -93,6 +99,22 @@ OpRecord *op_add(OpTable *t, const char *name, size_t n, SrcLoc loc, bool merge,
  * array, so that the values neither move as the table grows nor stay in the process once given back. */
 #define OP_VBLOCK 4096
 
+/* Keep only the quantities marked in present, for a reader that knows them before its first record
+ * (a CSV header): a CSV of nine columns then costs 72 bytes a record, not 144. Call before op_add;
+ * quantities not marked read as absent and must not be set. */
+void op_layout(OpTable *t, const bool present[OPQ_COUNT]);
+
+/* Quantity q of record r of t: NaN when absent. */
+static inline double op_q(const OpTable *t, const OpRecord *r, OpQty q)
+{
+    if (!t->nq)
+        return r->q[q];
+    return t->slot[q] ? r->q[t->slot[q] - 1] : (double)NAN;
+}
+
+/* All OPQ_COUNT quantities of r into out, in OpQty order (NaN where absent). */
+void op_values(const OpTable *t, const OpRecord *r, double out[OPQ_COUNT]);
+
 /* Give back the records' values (their q become NULL), for a reader that has read them for the last
  * time: join, once the rows hold the figures, so that the reports do not run beside them. */
 void op_release_values(OpTable *t);
@@ -102,7 +124,7 @@ void op_release_index(OpTable *t);
 
 /* Set quantity q of r to v; a different value already there is a conflict: an error at loc. Setting
  * NaN does nothing (absent stays absent). ERR_OK or ERR_INPUT. */
-int op_set(OpRecord *r, OpQty q, double v, SrcLoc loc, DiagList *d) MUST_CHECK;
+int op_set(OpTable *t, OpRecord *r, OpQty q, double v, SrcLoc loc, DiagList *d) MUST_CHECK;
 
 /* Add a node voltage (name canonical, as "x1.tail"). Appends: a dump that lists a node twice gives
  * two entries. ERR_OK or ERR_NOMEM. */

@@ -134,7 +134,7 @@ typedef struct {
     const OpRecord **by_dev;
     Row *rows;
     size_t from, to;
-    const OpTable *t;           /* find_records: the dump */
+    const OpTable *t;           /* the dump */
     size_t nmatched, nm_differ; /* fill_rows: what it found */
     const Device *first_m;      /* fill_rows: the first device whose dump m differs */
     const char **names;         /* find_records: the record name of every device */
@@ -175,11 +175,18 @@ static void *fill_rows(void *arg)
             continue;
         }
         j->nmatched++;
-        fig_normalize(row->op, dv->type, &row->fig);
+        /* the figures read every quantity in OpQty order; a table that keeps fewer lends them out */
+        OpRecord full = *row->op;
+        double all[OPQ_COUNT];
+        if (j->t->nq) {
+            op_values(j->t, row->op, all);
+            full.q = all;
+        }
+        fig_normalize(&full, dv->type, &row->fig);
         /* The simulator's own m wins where the dump gives it: ngspice 39 does not multiply m
            through subcircuit levels, so the netlist's product can differ from what ran. */
         Device sim = *dv;
-        double dm = row->op->q[OPQ_M];
+        double dm = full.q[OPQ_M];
         if (!isnan(dm) && dm > 0 && fabs(dm - dv->m) > 1e-9 * dv->m) {
             if (!j->nm_differ++)
                 j->first_m = dv;
@@ -237,8 +244,8 @@ int join_run_tables(const Design *ds, OpTable *t, const RuleSet *rs, const JoinO
 
     out->n = ds->ndevs;
     out->overlap = opt->add_overlap;
-    RowJob job[2] = {{.ds = ds, .rs = rs, .opt = opt, .by_dev = by_dev, .rows = out->rows},
-                     {.ds = ds, .rs = rs, .opt = opt, .by_dev = by_dev, .rows = out->rows}};
+    RowJob job[2] = {{.ds = ds, .rs = rs, .opt = opt, .by_dev = by_dev, .rows = out->rows, .t = t},
+                     {.ds = ds, .rs = rs, .opt = opt, .by_dev = by_dev, .rows = out->rows, .t = t}};
     halves(job, ds->ndevs, fill_rows);
     out->nmatched = job[0].nmatched + job[1].nmatched;
     size_t nm_differ = job[0].nm_differ + job[1].nm_differ;
@@ -253,7 +260,7 @@ int join_run_tables(const Design *ds, OpTable *t, const RuleSet *rs, const JoinO
             goto nomem;
     }
     /* the message below wants the dump's m of the first device whose m differs */
-    double first_dm = first_m ? by_dev[first_m - ds->devs]->q[OPQ_M] : NAN;
+    double first_dm = first_m ? op_q(t, by_dev[first_m - ds->devs], OPQ_M) : NAN;
     if (opt->consume)
         op_release_values(t); /* the rows hold what the reports need */
     if (ntables) { /* check --table: the tables' part of every row, no width suggestion yet (size_suggest) */

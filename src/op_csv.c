@@ -348,6 +348,11 @@ static void end_header(Csv *c)
         report(c, DIAG_ERROR, c->row_off, 0,
                "the header names no device column: one column must be called name, device or instance (or, "
                "for node voltages, two columns node and v)");
+    bool present[OPQ_COUNT] = {false};
+    for (size_t k = 0; k < c->ncols; k++)
+        if (c->cols[k].role == COL_QTY)
+            present[c->cols[k].q] = true;
+    op_layout(t, present); /* a record keeps the header's quantities only */
     if (c->ncols) {
         c->val = malloc(c->ncols * sizeof *c->val);
         c->set = calloc(c->ncols, sizeof *c->set);
@@ -468,7 +473,7 @@ static void end_row(Csv *c)
             continue;
         const Col *col = &c->cols[k];
         if (col->role == COL_QTY)
-            r->q[col->q] = c->val[k];
+            r->q[t->slot[col->q] - 1] = c->val[k]; /* op_layout gave every column's quantity a slot */
         else if (col->role == COL_EXTRA)
             t->extra_vals[r->extra + col->extra] = c->val[k];
     }

@@ -438,7 +438,7 @@ static void store(Raw *r, const Plot *pl, Slots *sl, size_t i, double v, bool ab
         int rc = op_add_node(t, t->file.text + sl->nodes[var->ref].off, sl->nodes[var->ref].len, v);
         if (rc != ERR_OK && sl->rc == ERR_OK)
             sl->rc = rc;
-    } else if (op_set(&t->recs[var->ref], (OpQty)var->q, v, (SrcLoc){t->file.path, (uint32_t)(pl->vars_line + i), 1},
+    } else if (op_set(t, &t->recs[var->ref], (OpQty)var->q, v, (SrcLoc){t->file.path, (uint32_t)(pl->vars_line + i), 1},
                       r->d) != ERR_OK) {
         r->nerr++;
     }

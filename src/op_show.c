@@ -387,7 +387,7 @@ static int value_row(Show *s, OpQty q)
             continue;
         }
         OpRecord *r = &t->recs[s->cols[j]];
-        if (op_set(r, q, v, loc, s->d) != ERR_OK) {
+        if (op_set(s->t, r, q, v, loc, s->d) != ERR_OK) {
             s->nerr++;
             if (r->truncated)
                 diag_add(s->d, DIAG_NOTE, loc,

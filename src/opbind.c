@@ -239,7 +239,7 @@ int bind_run(Design *ds, const OpTable *t, const BindOptions *o, const char **fo
             if (!(dv->simname = str_intern(ds->names, r->name, strlen(r->name))))
                 goto nomem;
             int took = 0;
-            const double q[4] = {r->q[OPQ_W], r->q[OPQ_L], r->q[OPQ_NF], r->q[OPQ_M]};
+            const double q[4] = {op_q(t, r, OPQ_W), op_q(t, r, OPQ_L), op_q(t, r, OPQ_NF), op_q(t, r, OPQ_M)};
             double *to[4] = {&dv->w, &dv->l, &dv->nf, &dv->m};
             for (int k = 0; k < 4; k++)
                 if (isfinite(q[k]) && q[k] > 0) {

@@ -48,7 +48,16 @@ static bool same_fold(const char *a, size_t n, const char *lower)
     return lower[n] == '\0';
 }
 
-#define VBLOCK_BYTES ((size_t)OP_VBLOCK * OPQ_COUNT * sizeof(double))
+/* Values a record keeps, and the bytes of one block of them. */
+static size_t nvals(const OpTable *t)
+{
+    return t->nq ? t->nq : OPQ_COUNT;
+}
+
+static size_t vblock_bytes(const OpTable *t)
+{
+    return (size_t)OP_VBLOCK * nvals(t) * sizeof(double);
+}
 #define QTY_NAME_MAX 6 /* the longest name above, "length" */
 
 static bool same_n(const char *a, const char *b, size_t n)
@@ -246,9 +255,9 @@ OpRecord *op_add(OpTable *t, const char *name, size_t n, SrcLoc loc, bool merge,
     }
     size_t b = t->n / OP_VBLOCK;
     if (b >= t->nvblock) {
-        double *blk = mem_pages(VBLOCK_BYTES);
+        double *blk = mem_pages(vblock_bytes(t));
         if (!blk || buf_grow_array((void **)&t->vblock, &t->capvblock, b + 1, sizeof *t->vblock) != ERR_OK) {
-            mem_pages_free(blk, VBLOCK_BYTES);
+            mem_pages_free(blk, vblock_bytes(t));
             diag_nomem(d);
             return NULL;
         }
@@ -260,19 +269,35 @@ OpRecord *op_add(OpTable *t, const char *name, size_t n, SrcLoc loc, bool merge,
     r->truncated = false;
     r->family = OPFAM_UNKNOWN;
     r->model = NULL;
-    r->q = t->vblock[b] + (t->n % OP_VBLOCK) * OPQ_COUNT;
+    size_t nv = nvals(t);
+    r->q = t->vblock[b] + (t->n % OP_VBLOCK) * nv;
     t->n++;
-    for (int q = 0; q < OPQ_COUNT; q++)
-        r->q[q] = NAN;
+    for (size_t k = 0; k < nv; k++)
+        r->q[k] = NAN;
     r->loc = loc;
     r->extra = 0;
     return r;
 }
 
+void op_layout(OpTable *t, const bool present[OPQ_COUNT])
+{
+    if (t->n) /* the records made so far have the old layout */
+        return;
+    t->nq = 0;
+    for (int q = 0; q < OPQ_COUNT; q++)
+        t->slot[q] = present[q] ? ++t->nq : 0;
+}
+
+void op_values(const OpTable *t, const OpRecord *r, double out[OPQ_COUNT])
+{
+    for (int q = 0; q < OPQ_COUNT; q++)
+        out[q] = op_q(t, r, (OpQty)q);
+}
+
 void op_release_values(OpTable *t)
 {
     for (size_t b = 0; b < t->nvblock; b++)
-        mem_pages_free(t->vblock[b], VBLOCK_BYTES);
+        mem_pages_free(t->vblock[b], vblock_bytes(t));
     free(t->vblock);
     t->vblock = NULL;
     t->nvblock = t->capvblock = 0;
@@ -280,13 +305,17 @@ void op_release_values(OpTable *t)
         t->recs[i].q = NULL;
 }
 
-int op_set(OpRecord *r, OpQty q, double v, SrcLoc loc, DiagList *d)
+int op_set(OpTable *t, OpRecord *r, OpQty q, double v, SrcLoc loc, DiagList *d)
 {
     if (isnan(v))
         return ERR_OK;
-    double old = r->q[q];
+    double *at = t->nq ? (t->slot[q] ? &r->q[t->slot[q] - 1] : NULL) : &r->q[q];
+    if (!at) /* op_layout left it out: the reader broke its promise */
+        return diag_add(d, DIAG_ERROR, loc, "internal error: %s of device '%s' has no place in its table",
+                        op_qty_name[q], r->name);
+    double old = *at;
     if (isnan(old) || old == v) {
-        r->q[q] = v;
+        *at = v;
         return ERR_OK;
     }
     return diag_add(d, DIAG_ERROR, loc,

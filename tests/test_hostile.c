@@ -154,7 +154,7 @@ static OpTable *synthetic_table(const Design *ds, DiagList *d)
                          {OPQ_VDSAT, 0.15},
                          {OPQ_CGG, 1e-14}};
         for (size_t k = 0; k < sizeof q / sizeof q[0]; k++)
-            assert_int_equal(op_set(r, (OpQty)q[k][0], q[k][1], r->loc, d), ERR_OK);
+            assert_int_equal(op_set(t, r, (OpQty)q[k][0], q[k][1], r->loc, d), ERR_OK);
     }
     return t;
 }
@@ -674,7 +674,7 @@ static void test_dump_rows(void **state)
         }
         if (t) {
             const OpRecord *rec = op_find(t, "x1.m1");
-            if (!rec || !isnan(rec->q[OPQ_ID]) || rec->q[OPQ_GM] != 0.000522462) {
+            if (!rec || !isnan(op_q(t, rec, OPQ_ID)) || op_q(t, rec, OPQ_GM) != 0.000522462) {
                 print_error("%s: the NaN id should be absent and gm kept\n", r->name);
                 bad++;
             }

@@ -62,9 +62,9 @@ static void test_mix(void **state)
         assert_non_null(r);
         int qi = op_qty_lookup_ngspice(q, strlen(q));
         assert_true(qi >= 0);
-        if (r->q[qi] != v)
-            print_error("%s[%s]: %.17g, print says %.17g\n", dev, q, r->q[qi], v);
-        assert_true(r->q[qi] == v);
+        if (op_q(t, r, qi) != v)
+            print_error("%s[%s]: %.17g, print says %.17g\n", dev, q, op_q(t, r, qi), v);
+        assert_true(op_q(t, r, qi) == v);
         checked++;
     }
     assert_int_equal(checked, 49); /* every print line of mix.cir */
@@ -72,10 +72,10 @@ static void test_mix(void **state)
     assert_non_null(strstr(csv, "\nm.xm1.mref,"));
     const OpRecord *mref = op_find(t, "xm1.mref");
     assert_non_null(mref);
-    assert_true(isnan(mref->q[OPQ_VGS]) && isnan(mref->q[OPQ_VON]));
+    assert_true(isnan(op_q(t, mref, OPQ_VGS)) && isnan(op_q(t, mref, OPQ_VON)));
     assert_int_equal(mref->loc.line, 2);
     assert_int_equal(mref->loc.col, 1);
-    assert_true(op_find(t, "mnsw")->q[OPQ_ID] < 0); /* as printed */
+    assert_true(op_q(t, op_find(t, "mnsw"), OPQ_ID) < 0); /* as printed */
     op_free(t);
     diag_free(&d);
     free(log);
@@ -107,20 +107,20 @@ static void test_alias(void **state)
         const OpRecord *rm = &m->recs[i], *ra = op_find(a, rm->name);
         assert_non_null(ra);
         for (size_t k = 0; k < sizeof same / sizeof same[0]; k++) {
-            double x = rm->q[same[k]], y = ra->q[same[k]];
+            double x = op_q(m, rm, same[k]), y = op_q(a, ra, same[k]);
             assert_int_equal(isnan(x), isnan(y));
             if (!isnan(x))
                 assert_true(x == y); /* vbs: -(vsb) restores the text's value exactly */
         }
         double rout = a->extra_vals[ra->extra], spare = a->extra_vals[ra->extra + 1];
         assert_true(isnan(spare));
-        if (isnan(rm->q[OPQ_GDS]))
+        if (isnan(op_q(m, rm, OPQ_GDS)))
             assert_true(isnan(rout));
         else
-            assert_close(rout, 1.0 / rm->q[OPQ_GDS], 1e-15);
+            assert_close(rout, 1.0 / op_q(m, rm, OPQ_GDS), 1e-15);
         assert_int_equal(ra->loc.line, rm->loc.line + 2); /* two comment lines */
     }
-    assert_true(op_find(a, "mpsw")->q[OPQ_VBS] == -1.2);
+    assert_true(op_q(a, op_find(a, "mpsw"), OPQ_VBS) == -1.2);
     op_free(a);
     op_free(m);
     diag_free(&d1);
@@ -147,10 +147,10 @@ static void test_forms(void **state)
     assert_non_null(a);
     assert_non_null(b);
     assert_non_null(c);
-    assert_true(a->q[OPQ_GMBS] == 1e-5 && a->q[OPQ_W] == 2e-6 && a->q[OPQ_L] == 1e-7);
-    assert_true(a->q[OPQ_VBS] == -0.3); /* vsb negated */
-    assert_true(b->q[OPQ_VBS] == 0.0 && !signbit(b->q[OPQ_VBS])); /* -(-0) */
-    assert_true(b->q[OPQ_GMBS] == 2.5e-5 && isnan(b->q[OPQ_W]));
+    assert_true(op_q(t, a, OPQ_GMBS) == 1e-5 && op_q(t, a, OPQ_W) == 2e-6 && op_q(t, a, OPQ_L) == 1e-7);
+    assert_true(op_q(t, a, OPQ_VBS) == -0.3); /* vsb negated */
+    assert_true(op_q(t, b, OPQ_VBS) == 0.0 && !signbit(op_q(t, b, OPQ_VBS))); /* -(-0) */
+    assert_true(op_q(t, b, OPQ_GMBS) == 2.5e-5 && isnan(op_q(t, b, OPQ_W)));
     assert_string_equal(a->model, "nch");
     assert_string_equal(b->model, "pch");
     assert_null(c->model);
@@ -304,14 +304,20 @@ static void test_plain_rows_as_libcsv(void **state)
     for (size_t i = 0; i < ta->n; i++) {
         assert_string_equal(ta->recs[i].name, tb->recs[i].name);
         assert_int_equal(ta->recs[i].loc.line, tb->recs[i].loc.line);
-        assert_memory_equal(ta->recs[i].q, tb->recs[i].q, sizeof ta->recs[i].q);
+        double qa[OPQ_COUNT], qb[OPQ_COUNT];
+        op_values(ta, &ta->recs[i], qa);
+        op_values(tb, &tb->recs[i], qb);
+        assert_memory_equal(qa, qb, sizeof qa);
     }
     const OpRecord *r = op_find(ta, "mn1");
-    assert_true(r && r->q[OPQ_GM] == 1e-3 && r->q[OPQ_ID] == 2e-4 && isnan(r->q[OPQ_GDS]) && r->q[OPQ_VTH] == 0.5);
+    assert_true(r && op_q(ta, r, OPQ_GM) == 1e-3 && op_q(ta, r, OPQ_ID) == 2e-4 && isnan(op_q(ta, r, OPQ_GDS)) &&
+                op_q(ta, r, OPQ_VTH) == 0.5);
     r = op_find(ta, "mn2");
-    assert_true(r && isnan(r->q[OPQ_GM]) && isnan(r->q[OPQ_ID]) && isnan(r->q[OPQ_GDS]) && isnan(r->q[OPQ_VTH]));
+    assert_true(r && isnan(op_q(ta, r, OPQ_GM)) && isnan(op_q(ta, r, OPQ_ID)) && isnan(op_q(ta, r, OPQ_GDS)) &&
+                isnan(op_q(ta, r, OPQ_VTH)));
     r = op_find(ta, "mn4");
-    assert_true(r && r->q[OPQ_GM] == 0.0 && signbit(r->q[OPQ_GM]) && r->q[OPQ_ID] == 0.5 && r->q[OPQ_GDS] == 100.0);
+    assert_true(r && op_q(ta, r, OPQ_GM) == 0.0 && signbit(op_q(ta, r, OPQ_GM)) && op_q(ta, r, OPQ_ID) == 0.5 &&
+                op_q(ta, r, OPQ_GDS) == 100.0);
     assert_non_null(op_find(ta, "mn6"));
     op_free(ta);
     op_free(tb);

@@ -220,12 +220,12 @@ static void test_records(void **state)
     assert_null(a->model);
     assert_false(a->truncated);
 
-    assert_int_equal(op_set(a, OPQ_GM, 1e-4, l5, &d), ERR_OK);
-    assert_int_equal(op_set(a, OPQ_GM, 1e-4, l9, &d), ERR_OK); /* the same value again: fine */
-    assert_int_equal(op_set(a, OPQ_GM, NAN, l9, &d), ERR_OK);  /* NaN: absent stays as it was */
+    assert_int_equal(op_set(t, a, OPQ_GM, 1e-4, l5, &d), ERR_OK);
+    assert_int_equal(op_set(t, a, OPQ_GM, 1e-4, l9, &d), ERR_OK); /* the same value again: fine */
+    assert_int_equal(op_set(t, a, OPQ_GM, NAN, l9, &d), ERR_OK);  /* NaN: absent stays as it was */
     assert_true(a->q[OPQ_GM] == 1e-4);
     assert_int_equal(d.n, 0);
-    assert_int_equal(op_set(a, OPQ_GM, 2e-4, l9, &d), ERR_INPUT);
+    assert_int_equal(op_set(t, a, OPQ_GM, 2e-4, l9, &d), ERR_INPUT);
     assert_int_equal(d.n, 1);
     assert_int_equal(d.items[0].loc.line, 9);
     assert_int_equal(d.items[0].loc.col, 7);
@@ -263,6 +263,47 @@ static void test_records(void **state)
     diag_free(&d);
     op_free(t);
     op_free(NULL);
+}
+
+/* A table that keeps only some quantities: what it keeps reads back, the rest is absent and cannot be
+ * set, and records across several blocks keep their own values. */
+static void test_layout(void **state)
+{
+    (void)state;
+    OpTable *t = bare_table();
+    DiagList d;
+    diag_init(&d);
+    bool present[OPQ_COUNT] = {false};
+    present[OPQ_GM] = present[OPQ_VDS] = present[OPQ_NF] = true;
+    op_layout(t, present);
+    assert_int_equal(t->nq, 3);
+    SrcLoc l2 = {"dump", 2, 1};
+    char nm[32];
+    for (int i = 0; i < 2 * OP_VBLOCK + 5; i++) {
+        int n = snprintf(nm, sizeof nm, "m%d", i);
+        OpRecord *r = op_add(t, nm, (size_t)n, l2, false, &d);
+        assert_non_null(r);
+        assert_int_equal(op_set(t, r, OPQ_GM, 1e-6 * i, l2, &d), ERR_OK);
+        assert_int_equal(op_set(t, r, OPQ_NF, (double)(i % 4 + 1), l2, &d), ERR_OK);
+    }
+    const OpRecord *f = op_find(t, "m8195");
+    assert_non_null(f);
+    assert_true(op_q(t, f, OPQ_GM) == 1e-6 * 8195 && op_q(t, f, OPQ_NF) == 4.0);
+    assert_true(isnan(op_q(t, f, OPQ_VDS)) && isnan(op_q(t, f, OPQ_ID)) && isnan(op_q(t, f, OPQ_W)));
+    double all[OPQ_COUNT];
+    op_values(t, f, all);
+    for (int q = 0; q < OPQ_COUNT; q++)
+        assert_true(q == OPQ_GM ? all[q] == 1e-6 * 8195 : q == OPQ_NF ? all[q] == 4.0 : isnan(all[q]));
+    assert_int_equal(d.n, 0);
+    assert_int_equal(op_set(t, (OpRecord *)f, OPQ_ID, 1e-3, l2, &d), ERR_INPUT); /* no place for it */
+    assert_int_equal(d.n, 1);
+    present[OPQ_ID] = true; /* too late: the records have their layout */
+    op_layout(t, present);
+    assert_int_equal(t->nq, 3);
+    op_release_values(t);
+    assert_null(t->recs[0].q);
+    diag_free(&d);
+    op_free(t);
 }
 
 /* ---- op_read ---- */
@@ -493,7 +534,8 @@ int main(void)
 {
     const struct CMUnitTest tests[] = {
         cmocka_unit_test(test_qty_lookup),   cmocka_unit_test(test_canonical),  cmocka_unit_test(test_number_grammar),
-        cmocka_unit_test(test_number_exact), cmocka_unit_test(test_records),    cmocka_unit_test(test_read_empty),
+        cmocka_unit_test(test_number_exact), cmocka_unit_test(test_records),    cmocka_unit_test(test_layout),
+        cmocka_unit_test(test_read_empty),
         cmocka_unit_test(test_read_missing), cmocka_unit_test(test_read_garbage), cmocka_unit_test(test_detect),
         cmocka_unit_test(test_nomem),
     };

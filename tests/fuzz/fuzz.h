@@ -99,7 +99,7 @@ static inline void fuzz_check_table(const OpTable *t)
         if (op_find(t, r->name) != r)
             fuzz_fail("record '%s' is not found by its name", r->name);
         for (int q = 0; q < OPQ_COUNT; q++)
-            if (isinf(r->q[q]))
+            if (isinf(op_q(t, r, (OpQty)q)))
                 fuzz_fail("record '%s' keeps an infinite %s", r->name, op_qty_name[q]);
         if (r->loc.file == NULL || r->loc.line == 0)
             fuzz_fail("record '%s' has no location", r->name);
