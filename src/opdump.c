@@ -58,6 +58,7 @@ static size_t vblock_bytes(const OpTable *t)
 {
     return (size_t)OP_VBLOCK * nvals(t) * sizeof(double);
 }
+
 #define QTY_NAME_MAX 6 /* the longest name above, "length" */
 
 static bool same_n(const char *a, const char *b, size_t n)
