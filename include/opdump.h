@@ -104,12 +104,19 @@ OpRecord *op_add(OpTable *t, const char *name, size_t n, SrcLoc loc, bool merge,
  * quantities not marked read as absent and must not be set. */
 void op_layout(OpTable *t, const bool present[OPQ_COUNT]);
 
+/* Where record r of t keeps quantity q, or NULL when t keeps no place for it (op_layout). */
+static inline double *op_place(const OpTable *t, const OpRecord *r, OpQty q)
+{
+    if (!t->nq)
+        return &r->q[q];
+    return t->slot[q] ? &r->q[t->slot[q] - 1] : NULL;
+}
+
 /* Quantity q of record r of t: NaN when absent. */
 static inline double op_q(const OpTable *t, const OpRecord *r, OpQty q)
 {
-    if (!t->nq)
-        return r->q[q];
-    return t->slot[q] ? r->q[t->slot[q] - 1] : (double)NAN;
+    const double *at = op_place(t, r, q);
+    return at ? *at : (double)NAN;
 }
 
 /* All OPQ_COUNT quantities of r into out, in OpQty order (NaN where absent). */

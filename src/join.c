@@ -176,17 +176,20 @@ static void *fill_rows(void *arg)
         }
         j->nmatched++;
         /* the figures read every quantity in OpQty order; a table that keeps fewer lends them out */
-        OpRecord full = *row->op;
+        const OpRecord *rec = row->op;
+        OpRecord full;
         double all[OPQ_COUNT];
         if (j->t->nq) {
-            op_values(j->t, row->op, all);
+            full = *rec;
+            op_values(j->t, rec, all);
             full.q = all;
+            rec = &full;
         }
-        fig_normalize(&full, dv->type, &row->fig);
+        fig_normalize(rec, dv->type, &row->fig);
         /* The simulator's own m wins where the dump gives it: ngspice 39 does not multiply m
            through subcircuit levels, so the netlist's product can differ from what ran. */
         Device sim = *dv;
-        double dm = full.q[OPQ_M];
+        double dm = rec->q[OPQ_M];
         if (!isnan(dm) && dm > 0 && fabs(dm - dv->m) > 1e-9 * dv->m) {
             if (!j->nm_differ++)
                 j->first_m = dv;

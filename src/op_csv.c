@@ -473,7 +473,7 @@ static void end_row(Csv *c)
             continue;
         const Col *col = &c->cols[k];
         if (col->role == COL_QTY)
-            r->q[t->nq ? t->slot[col->q] - 1 : col->q] = c->val[k]; /* op_layout gave each column a slot */
+            *op_place(t, r, col->q) = c->val[k]; /* op_layout gave each column a place */
         else if (col->role == COL_EXTRA)
             t->extra_vals[r->extra + col->extra] = c->val[k];
     }

@@ -310,7 +310,7 @@ int op_set(OpTable *t, OpRecord *r, OpQty q, double v, SrcLoc loc, DiagList *d)
 {
     if (isnan(v))
         return ERR_OK;
-    double *at = t->nq ? (t->slot[q] ? &r->q[t->slot[q] - 1] : NULL) : &r->q[q];
+    double *at = op_place(t, r, q);
     if (!at) /* op_layout left it out: the reader broke its promise */
         return diag_add(d, DIAG_ERROR, loc, "internal error: %s of device '%s' has no place in its table",
                         op_qty_name[q], r->name);
